@@ -1,0 +1,59 @@
+//! `glaze`: the command line. It parses arguments, calls the engine and
+//! reports; all the work is in `glaze-engine`.
+//!
+//! Exit codes: 0 success; 1 internal error; 2 bad input (file, key and line
+//! are printed); 3 the analysis did not converge; 4 results could not be written.
+
+mod commands;
+
+use clap::{Parser, Subcommand};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+/// Wind-induced dynamics of overhead line tension sections.
+#[derive(Parser)]
+#[command(name = "glaze", version, about, long_about = None)]
+struct Cli {
+    /// Print only errors.
+    #[arg(long, short, global = true)]
+    quiet: bool,
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Validate an input file and summarise the model it describes.
+    Check {
+        /// Input TOML file.
+        file: PathBuf,
+    },
+    /// Solve the static load case and write the results file.
+    Static {
+        /// Input TOML file.
+        file: PathBuf,
+        /// Results file to write (HDF5).
+        #[arg(long, short)]
+        out: PathBuf,
+    },
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let level = if cli.quiet { "error" } else { "warn" };
+    let _ = tracing_subscriber::fmt()
+        .with_env_filter(tracing_subscriber::EnvFilter::try_from_env("GLAZE_LOG").unwrap_or_else(|_| level.into()))
+        .with_writer(std::io::stderr)
+        .try_init();
+    let result = match &cli.command {
+        Command::Check { file } => commands::check(file, cli.quiet),
+        Command::Static { file, out } => commands::run_static(file, out, cli.quiet),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("error: {e}");
+            ExitCode::from(commands::exit_code(&e))
+        }
+    }
+}

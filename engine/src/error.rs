@@ -1,0 +1,57 @@
+//! Errors of the engine. Every input problem carries the file, the key
+//! path and the line, so the user can go straight to it.
+
+use std::path::PathBuf;
+
+/// What kind of input problem it is (for tests and exit codes).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum InputErrorKind {
+    /// The file could not be read.
+    Unreadable,
+    /// Not valid TOML.
+    Syntax,
+    /// A key the schema does not know.
+    UnknownKey,
+    /// A required key is absent.
+    MissingKey,
+    /// A value of the wrong type or outside its valid range.
+    InvalidValue,
+    /// A name that refers to nothing (support, conductor, element type).
+    UnknownName,
+    /// A target no real conductor can meet.
+    Impossible,
+    /// The static solve did not converge for this input.
+    NotConverged,
+}
+
+/// A located input error: `file:line: key: message`.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+#[error("{}:{line}: {key}: {message}", file.display())]
+pub struct InputError {
+    /// The input file.
+    pub file: PathBuf,
+    /// 1-based line of the key (0 when the file could not be read).
+    pub line: usize,
+    /// The key path, e.g. `spans[2].sag`.
+    pub key: String,
+    /// What is wrong and what was expected.
+    pub message: String,
+    /// The kind of problem.
+    pub kind: InputErrorKind,
+}
+
+/// Every error the engine can return.
+#[derive(Debug, thiserror::Error)]
+pub enum GlazeError {
+    /// Bad input.
+    #[error(transparent)]
+    Input(#[from] InputError),
+    /// Results could not be written.
+    #[error("cannot write results file {}: {message}", path.display())]
+    Results {
+        /// Target path.
+        path: PathBuf,
+        /// What went wrong.
+        message: String,
+    },
+}

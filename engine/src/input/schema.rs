@@ -1,0 +1,154 @@
+//! Raw input schema, version 1: exactly what the user typed, checked only
+//! for syntax, types and unknown keys. [`super::validate`] turns it into a
+//! [`crate::SectionSpec`] that cannot be invalid.
+//!
+//! Units are SI throughout except temperatures, which are in °C.
+
+use serde::Deserialize;
+use std::collections::BTreeMap;
+
+/// The current input schema version.
+pub const SCHEMA_VERSION: u32 = 1;
+
+/// The whole input file.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawInput {
+    /// File header.
+    pub glaze: RawHeader,
+    /// Conductor types by name.
+    pub conductors: BTreeMap<String, RawConductor>,
+    /// Support points (attachment points of the conductor), in route order.
+    pub supports: Vec<RawSupport>,
+    /// Spans between supports.
+    pub spans: Vec<RawSpan>,
+    /// How each span is meshed.
+    pub mesh: RawMesh,
+    /// The state in which the stringing targets hold.
+    pub stringing: RawStringing,
+    /// The load case to solve.
+    pub load_case: RawLoadCase,
+    /// Nonlinear solver settings (all optional).
+    #[serde(default)]
+    pub solver: RawSolver,
+}
+
+/// `[glaze]`: schema version and a free title.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawHeader {
+    /// Must equal [`SCHEMA_VERSION`].
+    pub schema_version: u32,
+    /// Free text shown in reports.
+    #[serde(default)]
+    pub title: String,
+}
+
+/// `[conductors.NAME]`: one conductor type.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawConductor {
+    /// Overall diameter, in m.
+    pub diameter: f64,
+    /// Mass per unit length, in kg/m.
+    pub mass_per_length: f64,
+    /// Axial stiffness EA, in N.
+    pub axial_stiffness: f64,
+    /// Bending stiffness EI, in N·m².
+    pub bending_stiffness: f64,
+    /// Torsional stiffness GJ, in N·m².
+    pub torsional_stiffness: f64,
+    /// Coefficient of linear thermal expansion, in 1/K.
+    pub thermal_expansion: f64,
+    /// Rated tensile strength, in N.
+    pub rated_strength: f64,
+    /// Mass polar moment of inertia per length, in kg·m; default from a
+    /// solid round section, m·D²/8.
+    pub polar_inertia_per_length: Option<f64>,
+}
+
+/// `[[supports]]`: a fixed attachment point.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSupport {
+    /// Unique name, referred to by spans.
+    pub name: String,
+    /// Position `[x, y, z]`, in m (x along the route, z up).
+    pub position: [f64; 3],
+}
+
+/// `[[spans]]`: one span and its stringing target (exactly one of the three).
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSpan {
+    /// Name of the support at the start.
+    pub from: String,
+    /// Name of the support at the end.
+    pub to: String,
+    /// Name of a conductor type in `[conductors]`.
+    pub conductor: String,
+    /// Target horizontal tension at stringing, in N.
+    pub horizontal_tension: Option<f64>,
+    /// Target sag at stringing (largest vertical distance between chord and conductor), in m.
+    pub sag: Option<f64>,
+    /// Target catenary parameter H/w at stringing (w: bare weight per unstretched length), in m.
+    pub catenary_parameter: Option<f64>,
+}
+
+/// `[mesh]`: element kind and density.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawMesh {
+    /// Element kind from the registry (`beam`, `cable`, `link`).
+    #[serde(rename = "type")]
+    pub kind: String,
+    /// Elements per span (at least 2).
+    pub elements_per_span: usize,
+}
+
+/// `[stringing]`: the stringing condition (bare conductor, no wind).
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawStringing {
+    /// Conductor temperature at which the targets hold, in °C.
+    pub temperature: f64,
+}
+
+/// `[load_case]`: temperature and ice for the static solve.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawLoadCase {
+    /// Name shown in reports.
+    #[serde(default)]
+    pub name: String,
+    /// Conductor temperature, in °C.
+    pub temperature: f64,
+    /// Radial ice on every span (none when absent).
+    pub ice: Option<RawIce>,
+    /// Gravitational acceleration, in m/s² (default 9.80665, standard gravity).
+    pub gravity: Option<f64>,
+}
+
+/// Uniform radial ice.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawIce {
+    /// Radial thickness, in m.
+    pub thickness: f64,
+    /// Density, in kg/m³ (default 900, glaze ice per IEC 60826).
+    pub density: Option<f64>,
+}
+
+/// `[solver]`: Newton and load-stepping settings.
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSolver {
+    /// Newton iterations per load step (default 30).
+    pub max_iterations: Option<usize>,
+    /// Relative residual tolerance (default 1e-9).
+    pub residual_tolerance: Option<f64>,
+    /// First load step as a fraction of the load case (default 0.25).
+    pub initial_load_step: Option<f64>,
+    /// Smallest load step before giving up (default 1e-4).
+    pub min_load_step: Option<f64>,
+}

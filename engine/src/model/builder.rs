@@ -1,0 +1,163 @@
+//! Turns a [`SectionSpec`] into a [`Model`]: form-finds each span at its
+//! stringing state, meshes it, and sets up supports and loads.
+
+use super::{DofMap, Model, SpanMesh, DOF_PER_NODE};
+use crate::error::{InputError, InputErrorKind};
+use crate::formfinding::{Catenary, CatenarySpan, DiscreteChain};
+use crate::input::Locator;
+use crate::registry::{ElementRegistry, SegmentSpec};
+use crate::spec::{SectionSpec, StringingTarget};
+use nalgebra::Vector3;
+use std::collections::BTreeMap;
+
+fn target_key(i: usize, t: &StringingTarget) -> String {
+    let field = match t {
+        StringingTarget::HorizontalTension(_) => "horizontal_tension",
+        StringingTarget::Sag(_) => "sag",
+        StringingTarget::CatenaryParameter(_) => "catenary_parameter",
+    };
+    format!("spans[{i}].{field}")
+}
+
+/// Builds the model of `spec` with element kinds from `registry`.
+pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, InputError> {
+    let loc = Locator::new(&spec.file, &spec.source);
+    let kind = registry.get(&spec.element_kind).ok_or_else(|| {
+        loc.error(
+            InputErrorKind::UnknownName,
+            "mesh.type",
+            format!("unknown element type `{}`; known types: {}", spec.element_kind, registry.names().join(", ")),
+        )
+    })?;
+    let g = spec.load_case.gravity;
+    let n_el = spec.elements_per_span;
+
+    let mut nodes: Vec<Vector3<f64>> = Vec::new();
+    let mut elements = Vec::new();
+    let mut spans = Vec::new();
+    let mut restrained = Vec::new();
+    let mut uses_rotation = Vec::new();
+    let mut stringing_load = Vec::new();
+    let mut case_load = Vec::new();
+
+    for (i, s) in spec.spans.iter().enumerate() {
+        let c = &spec.conductors[s.conductor];
+        let a = spec.supports[s.from].position;
+        let b = spec.supports[s.to].position;
+        let plan = Vector3::new(b.x - a.x, b.y - a.y, 0.0);
+        let l = plan.norm();
+        let direction = plan / l;
+        let cat_span = CatenarySpan {
+            horizontal_length: l,
+            height_difference: b.z - a.z,
+            weight_per_length: c.mass_per_length * g,
+            axial_stiffness: c.axial_stiffness,
+        };
+        let key = target_key(i, &s.target);
+        let impossible = |e: crate::formfinding::CatenaryError| loc.error(InputErrorKind::Impossible, &key, e.to_string());
+        let h = match s.target {
+            StringingTarget::HorizontalTension(h) => h,
+            StringingTarget::Sag(d) => Catenary::from_sag(cat_span, d).map_err(impossible)?.horizontal_tension,
+            StringingTarget::CatenaryParameter(p) => p * cat_span.weight_per_length,
+        };
+        let chain = DiscreteChain::strung(cat_span, h, n_el).map_err(impossible)?;
+        // Largest stringing tension is at the higher support (or either on a level span).
+        let v_last = chain.first_vertical + (n_el as f64 - 1.0) * cat_span.weight_per_length * chain.unstretched_length / n_el as f64;
+        let end_weight = 0.5 * cat_span.weight_per_length * chain.unstretched_length / n_el as f64;
+        let t_max = h.hypot(chain.first_vertical - end_weight).max(h.hypot(v_last + end_weight));
+        if t_max >= c.rated_strength {
+            return Err(loc.error(
+                InputErrorKind::Impossible,
+                &key,
+                format!(
+                    "this target needs a support tension of {t_max:.0} N, at or above the rated strength {:.0} N of `{}`: the conductor would break before it hangs so",
+                    c.rated_strength, c.name
+                ),
+            ));
+        }
+
+        let first = nodes.len();
+        for &(x, z) in &chain.nodes {
+            nodes.push(a + direction * x + Vector3::z() * z);
+            restrained.push([false; DOF_PER_NODE]);
+            uses_rotation.push(false);
+        }
+        restrained[first] = [true; DOF_PER_NODE];
+        restrained[first + n_el] = [true; DOF_PER_NODE];
+
+        let ell = chain.unstretched_length / n_el as f64;
+        let ice_mass = spec.load_case.ice.map_or(0.0, |ice| ice.mass_per_length(c.diameter));
+        let ice_polar = spec.load_case.ice.map_or(0.0, |ice| ice.polar_inertia_per_length(c.diameter));
+        let across = Vector3::z().cross(&direction);
+        let first_element = elements.len();
+        for k in 0..n_el {
+            let ids = [first + k, first + k + 1];
+            let segment = SegmentSpec {
+                nodes: ids,
+                x0: [nodes[ids[0]], nodes[ids[1]]],
+                unstretched_length: ell,
+                reference_y: across,
+                conductor: c,
+                mass_per_length: c.mass_per_length + ice_mass,
+                polar_inertia_per_length: c.polar_inertia_per_length + ice_polar,
+            };
+            let element = kind
+                .build(&segment)
+                .map_err(|e| loc.error(InputErrorKind::InvalidValue, &format!("spans[{i}]"), format!("element {k} of this span: {e}")))?;
+            if element.uses_rotations() {
+                uses_rotation[ids[0]] = true;
+                uses_rotation[ids[1]] = true;
+            }
+            elements.push(element);
+        }
+        // Weight of each element lumped half to each node (consistent with the chain).
+        let bare = 0.5 * c.mass_per_length * g * ell;
+        let iced = 0.5 * (c.mass_per_length + ice_mass) * g * ell;
+        stringing_load.resize(nodes.len() * DOF_PER_NODE, 0.0);
+        case_load.resize(nodes.len() * DOF_PER_NODE, 0.0);
+        for k in 0..n_el {
+            for node in [first + k, first + k + 1] {
+                stringing_load[node * DOF_PER_NODE + 2] -= bare;
+                case_load[node * DOF_PER_NODE + 2] -= iced;
+            }
+        }
+
+        spans.push(SpanMesh {
+            nodes: (first..=first + n_el).collect(),
+            elements: first_element..elements.len(),
+            supports: [s.from, s.to],
+            conductor: s.conductor,
+            direction,
+            horizontal_length: l,
+            height_difference: b.z - a.z,
+            stringing: chain,
+        });
+    }
+
+    let free: Vec<[bool; DOF_PER_NODE]> = restrained
+        .iter()
+        .zip(&uses_rotation)
+        .map(|(r, &rot)| std::array::from_fn(|d| !r[d] && (d < 3 || rot)))
+        .collect();
+    let dofs = DofMap::new(&free);
+    let support_nodes: Vec<usize> = (0..nodes.len()).filter(|&n| restrained[n].iter().any(|&r| r)).collect();
+
+    let mut groups = BTreeMap::new();
+    for (i, s) in spans.iter().enumerate() {
+        groups.insert(format!("span_{}", i + 1), s.nodes.clone());
+    }
+    groups.insert("support".to_string(), support_nodes.clone());
+
+    Ok(Model {
+        nodes,
+        elements,
+        restrained,
+        dofs,
+        spans,
+        support_nodes,
+        groups,
+        stringing_load,
+        case_load,
+        temperature_change: spec.load_case.temperature - spec.stringing_temperature,
+    })
+}

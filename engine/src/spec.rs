@@ -1,0 +1,115 @@
+//! The validated description of a section: built only by
+//! [`crate::input::load`], so every value in it has passed its checks.
+
+use glaze_aero::RadialIce;
+use nalgebra::Vector3;
+use std::path::PathBuf;
+
+/// A conductor type, SI units.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Conductor {
+    /// Name in the input.
+    pub name: String,
+    /// Diameter, in m.
+    pub diameter: f64,
+    /// Mass per length, in kg/m.
+    pub mass_per_length: f64,
+    /// EA, in N.
+    pub axial_stiffness: f64,
+    /// EI, in N·m².
+    pub bending_stiffness: f64,
+    /// GJ, in N·m².
+    pub torsional_stiffness: f64,
+    /// Thermal expansion, in 1/K.
+    pub thermal_expansion: f64,
+    /// Rated tensile strength, in N.
+    pub rated_strength: f64,
+    /// Mass polar moment of inertia per length, in kg·m.
+    pub polar_inertia_per_length: f64,
+}
+
+/// A fixed attachment point.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Support {
+    /// Name in the input.
+    pub name: String,
+    /// Position, in m.
+    pub position: Vector3<f64>,
+}
+
+/// How a span is strung (at the stringing temperature, bare, no wind).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum StringingTarget {
+    /// Horizontal tension, in N.
+    HorizontalTension(f64),
+    /// Largest vertical distance between chord and conductor, in m.
+    Sag(f64),
+    /// Catenary parameter H/w, in m.
+    CatenaryParameter(f64),
+}
+
+/// One span.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SpanSpec {
+    /// Index into [`SectionSpec::supports`] of the first support.
+    pub from: usize,
+    /// Index of the second support.
+    pub to: usize,
+    /// Index into [`SectionSpec::conductors`].
+    pub conductor: usize,
+    /// Stringing target.
+    pub target: StringingTarget,
+}
+
+/// Static load case.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LoadCase {
+    /// Name shown in reports.
+    pub name: String,
+    /// Conductor temperature, in °C.
+    pub temperature: f64,
+    /// Ice on every span.
+    pub ice: Option<RadialIce>,
+    /// Gravitational acceleration, in m/s².
+    pub gravity: f64,
+}
+
+/// Nonlinear solver settings.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SolverSpec {
+    /// Newton iterations per load step.
+    pub max_iterations: usize,
+    /// Relative residual tolerance.
+    pub residual_tolerance: f64,
+    /// First load step (fraction of the load case).
+    pub initial_load_step: f64,
+    /// Smallest load step.
+    pub min_load_step: f64,
+}
+
+/// A validated section description.
+#[derive(Clone, Debug)]
+pub struct SectionSpec {
+    /// Input file.
+    pub file: PathBuf,
+    /// Full input text (kept for the results file and error lines).
+    pub source: String,
+    /// Title.
+    pub title: String,
+    /// Conductor types.
+    pub conductors: Vec<Conductor>,
+    /// Supports.
+    pub supports: Vec<Support>,
+    /// Spans.
+    pub spans: Vec<SpanSpec>,
+    /// Element kind name (registered).
+    pub element_kind: String,
+    /// Elements per span.
+    pub elements_per_span: usize,
+    /// Stringing temperature, in °C.
+    pub stringing_temperature: f64,
+    /// The load case.
+    pub load_case: LoadCase,
+    /// Solver settings.
+    pub solver: SolverSpec,
+}

@@ -1,0 +1,25 @@
+#!/usr/bin/env bash
+# Installs what glaze needs beyond the Rust toolchain, only when missing:
+# the HDF5 C library (Debian's libhdf5-dev) and, for the cross-check tests,
+# Python's numpy, scipy and h5py.
+set -euo pipefail
+
+need_apt=()
+if ! pkg-config --exists hdf5 2>/dev/null && [ ! -e /usr/include/hdf5/serial/hdf5.h ] && [ ! -e /usr/include/hdf5.h ]; then
+    need_apt+=(libhdf5-dev)
+fi
+command -v pkg-config >/dev/null 2>&1 || need_apt+=(pkg-config)
+command -v python3 >/dev/null 2>&1 || need_apt+=(python3 python3-pip)
+if [ ${#need_apt[@]} -gt 0 ]; then
+    echo "setup: installing ${need_apt[*]} with apt-get" >&2
+    SUDO=""
+    [ "$(id -u)" -ne 0 ] && SUDO="sudo"
+    $SUDO apt-get update -qq
+    DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "${need_apt[@]}" >/dev/null
+fi
+
+if ! python3 -c "import numpy, scipy, h5py" >/dev/null 2>&1; then
+    echo "setup: installing numpy scipy h5py with pip" >&2
+    python3 -m pip install --quiet numpy scipy h5py 2>/dev/null \
+        || python3 -m pip install --quiet --break-system-packages numpy scipy h5py
+fi
