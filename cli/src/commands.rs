@@ -9,7 +9,8 @@ use std::path::Path;
 use std::time::Instant;
 
 /// The caution every report carries.
-pub const CAUTION: &str = "Caution: glaze results support, and never replace, the judgement of a licensed engineer \
+pub const CAUTION: &str =
+    "Caution: glaze results support, and never replace, the judgement of a licensed engineer \
 and the clearances and load cases of the local code.";
 
 /// Exit code for an error (see the crate docs).
@@ -44,10 +45,13 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
         s.dofs,
         s.supports
     );
-    let ice = spec
-        .load_case
-        .ice
-        .map_or("no ice".to_string(), |i| format!("radial ice {:.1} mm at {:.0} kg/m³", i.thickness * 1e3, i.density));
+    let ice = spec.load_case.ice.map_or("no ice".to_string(), |i| {
+        format!(
+            "radial ice {:.1} mm at {:.0} kg/m³",
+            i.thickness * 1e3,
+            i.density
+        )
+    });
     println!(
         "stringing at {:.1} °C; load case `{}`: {:.1} °C, {ice}",
         spec.stringing_temperature, spec.load_case.name, spec.load_case.temperature
@@ -55,7 +59,15 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
     println!();
     println!(
         "{:>4}  {:<10} {:<10} {:<12} {:>9} {:>8}  {:<22} {:>12} {:>10}",
-        "span", "from", "to", "conductor", "length m", "Δh m", "stringing target", "conductor kg", "ice kg"
+        "span",
+        "from",
+        "to",
+        "conductor",
+        "length m",
+        "Δh m",
+        "stringing target",
+        "conductor kg",
+        "ice kg"
     );
     for (i, l) in s.spans.iter().enumerate() {
         let target = match l.target {
@@ -105,13 +117,19 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
     if quiet {
         return Ok(());
     }
+    let f = &result.report.factor_stats;
     println!(
-        "static equilibrium of `{}` ({}): {} load steps, {} Newton iterations, {} cut-backs",
+        "static equilibrium of `{}` ({}): {} load steps, {} Newton iterations, {} cut-backs; \
+         {} symbolic and {} numeric factorisations ({} Cholesky, {} LU)",
         spec.load_case.name,
         file.display(),
         result.report.steps,
         result.report.total_iterations,
-        result.report.cutbacks
+        result.report.cutbacks,
+        f.symbolic,
+        f.numeric_cholesky + f.numeric_lu,
+        f.numeric_cholesky,
+        f.numeric_lu
     );
     println!();
     println!(

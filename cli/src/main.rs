@@ -42,7 +42,10 @@ fn main() -> ExitCode {
     let cli = Cli::parse();
     let level = if cli.quiet { "error" } else { "warn" };
     let _ = tracing_subscriber::fmt()
-        .with_env_filter(tracing_subscriber::EnvFilter::try_from_env("GLAZE_LOG").unwrap_or_else(|_| level.into()))
+        .with_env_filter(
+            tracing_subscriber::EnvFilter::try_from_env("GLAZE_LOG")
+                .unwrap_or_else(|_| level.into()),
+        )
         .with_writer(std::io::stderr)
         .try_init();
     let result = match &cli.command {

@@ -170,9 +170,11 @@ pub enum TableError {
 
     /// Consecutive angles are further apart than the allowed spacing.
     #[error(
-        "{}:{line}: column `alpha_deg`: gap of {gap_deg}° from line \
-         {previous_line} exceeds the maximum spacing of {max_deg}°",
-        .path.display()
+        "{}:{line}: column `alpha_deg`: gap of {}° from line {previous_line} \
+         exceeds the maximum spacing of {}°",
+        .path.display(),
+        round_deg(*.gap_deg),
+        round_deg(*.max_deg)
     )]
     Gap {
         /// Table file.
@@ -189,9 +191,10 @@ pub enum TableError {
 
     /// The angles cover more than one 360° period.
     #[error(
-        "{}:{line}: column `alpha_deg`: the table spans {span_deg}° from line \
+        "{}:{line}: column `alpha_deg`: the table spans {}° from line \
          {first_line}, more than one 360° period",
-        .path.display()
+        .path.display(),
+        round_deg(*.span_deg)
     )]
     SpanExceedsPeriod {
         /// Table file.
@@ -275,10 +278,12 @@ pub enum TableError {
     /// `evaluate` or `derivative` was asked for an angle outside the range a
     /// non-periodic table covers.
     #[error(
-        "{}: angle of attack {alpha_deg}° is outside the table's range \
-         [{min_deg}°, {max_deg}°] (the table does not span 360°, so it is not \
-         periodic)",
-        .path.display()
+        "{}: angle of attack {}° is outside the table's range [{}°, {}°] (the \
+         table does not span 360°, so it is not periodic)",
+        .path.display(),
+        round_deg(*.alpha_deg),
+        round_deg(*.min_deg),
+        round_deg(*.max_deg)
     )]
     OutOfRange {
         /// Table file.
@@ -347,6 +352,12 @@ impl TableError {
             Self::Unreadable { .. } | Self::OutOfRange { .. } | Self::NonFiniteAngle { .. } => None,
         }
     }
+}
+
+/// An angle in degrees rounded to 1e-9° for messages (so 30° converted to
+/// rad and back prints as 30, not 29.999999999999996).
+fn round_deg(deg: f64) -> f64 {
+    (deg * 1e9).round() / 1e9
 }
 
 /// `path:line`, or `path (given by the caller)` when there is no line.

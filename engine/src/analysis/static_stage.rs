@@ -7,7 +7,9 @@ use crate::input::Locator;
 use crate::model::{Model, DOF_PER_NODE};
 use crate::spec::SectionSpec;
 use glaze_elements::ElementOutput;
-use glaze_solvers::{solve_load_path, LoadPathReport, LoadStepSettings, NewtonSettings, SparseDirect};
+use glaze_solvers::{
+    solve_load_path, LoadPathReport, LoadStepSettings, NewtonSettings, SparseDirect,
+};
 
 /// Results of one span at static equilibrium.
 #[derive(Clone, Debug, PartialEq)]
@@ -90,17 +92,25 @@ pub fn run_static(spec: &SectionSpec, model: &Model) -> Result<StaticResult, Inp
         })
         .collect();
     let reactions = system.reactions(1.0);
-    let force_at = |n: usize| -> [f64; 3] { std::array::from_fn(|d| reactions[n * DOF_PER_NODE + d]) };
+    let force_at =
+        |n: usize| -> [f64; 3] { std::array::from_fn(|d| reactions[n * DOF_PER_NODE + d]) };
     let support_force = model.support_nodes.iter().map(|&n| force_at(n)).collect();
     let spans = model
         .spans
         .iter()
         .map(|span| {
             let c = &spec.conductors[span.conductor];
-            let positions: Vec<_> = span.nodes.iter().map(|&n| system.config.positions[n]).collect();
+            let positions: Vec<_> = span
+                .nodes
+                .iter()
+                .map(|&n| system.config.positions[n])
+                .collect();
             let a = positions[0];
             let b = positions[positions.len() - 1];
-            let ends = [force_at(span.nodes[0]), force_at(span.nodes[span.nodes.len() - 1])];
+            let ends = [
+                force_at(span.nodes[0]),
+                force_at(span.nodes[span.nodes.len() - 1]),
+            ];
             let tension = ends.map(|f| (f[0] * f[0] + f[1] * f[1] + f[2] * f[2]).sqrt());
             let horizontal = ends.map(|f| f[0].hypot(f[1]));
             let (sag, sag_position) = sag_of(span.direction, &positions);
@@ -117,7 +127,13 @@ pub fn run_static(spec: &SectionSpec, model: &Model) -> Result<StaticResult, Inp
             }
         })
         .collect();
-    Ok(StaticResult { config: system.config, element_output, support_force, spans, report })
+    Ok(StaticResult {
+        config: system.config,
+        element_output,
+        support_force,
+        spans,
+        report,
+    })
 }
 
 /// Largest vertical distance between the chord and the polyline of
@@ -138,7 +154,13 @@ fn sag_of(direction: nalgebra::Vector3<f64>, positions: &[nalgebra::Vector3<f64>
     let (k, _) = samples
         .iter()
         .enumerate()
-        .fold((0, f64::NEG_INFINITY), |best, (i, &(_, d))| if d > best.1 { (i, d) } else { best });
+        .fold((0, f64::NEG_INFINITY), |best, (i, &(_, d))| {
+            if d > best.1 {
+                (i, d)
+            } else {
+                best
+            }
+        });
     if k == 0 || k + 1 == samples.len() {
         return (samples[k].1, samples[k].0);
     }

@@ -45,11 +45,22 @@ pub struct StaticSystem<'m> {
 impl<'m> StaticSystem<'m> {
     /// Sets up the system starting from the reference configuration.
     pub fn new(model: &'m Model) -> Self {
-        let element_equations: Vec<Vec<Option<usize>>> =
-            model.elements.iter().map(|e| model.dofs.element_equations(e.nodes())).collect();
-        let pattern = SparsityPattern::from_dof_groups(model.dofs.len(), element_equations.iter().map(|v| v.as_slice()));
+        let element_equations: Vec<Vec<Option<usize>>> = model
+            .elements
+            .iter()
+            .map(|e| model.dofs.element_equations(e.nodes()))
+            .collect();
+        let pattern = SparsityPattern::from_dof_groups(
+            model.dofs.len(),
+            element_equations.iter().map(|v| v.as_slice()),
+        );
         let assembler = Assembler::new(&pattern, element_equations.iter().map(|v| v.as_slice()));
-        let max_nodes = model.elements.iter().map(|e| e.nodes().len()).max().unwrap_or(0);
+        let max_nodes = model
+            .elements
+            .iter()
+            .map(|e| e.nodes().len())
+            .max()
+            .unwrap_or(0);
         let m = max_nodes * DOF_PER_NODE;
         let config = Configuration::reference(model);
         Self {
@@ -66,7 +77,9 @@ impl<'m> StaticSystem<'m> {
 
     /// Element context at load factor λ.
     pub fn context(&self, lambda: f64) -> ElementContext {
-        ElementContext { temperature_change: lambda * self.model.temperature_change }
+        ElementContext {
+            temperature_change: lambda * self.model.temperature_change,
+        }
     }
 
     /// External nodal load at λ for global DOF index `i` (node × 6 + d), in N or N·m.
@@ -110,7 +123,11 @@ impl<'m> StaticSystem<'m> {
         let mut r = self.full_internal_force(lambda);
         for (i, value) in r.iter_mut().enumerate() {
             let (node, d) = (i / DOF_PER_NODE, i % DOF_PER_NODE);
-            *value = if self.model.restrained[node][d] { *value - self.external(lambda, i) } else { 0.0 };
+            *value = if self.model.restrained[node][d] {
+                *value - self.external(lambda, i)
+            } else {
+                0.0
+            };
         }
         r
     }
@@ -125,7 +142,12 @@ impl NonlinearSystem for StaticSystem<'_> {
         &self.pattern
     }
 
-    fn evaluate(&mut self, lambda: f64, residual: &mut [f64], mut tangent: Option<&mut [f64]>) -> Result<(), EvalError> {
+    fn evaluate(
+        &mut self,
+        lambda: f64,
+        residual: &mut [f64],
+        mut tangent: Option<&mut [f64]>,
+    ) -> Result<(), EvalError> {
         residual.fill(0.0);
         if let Some(t) = tangent.as_deref_mut() {
             t.fill(0.0);
@@ -137,7 +159,12 @@ impl NonlinearSystem for StaticSystem<'_> {
             let m = element.nodes().len() * DOF_PER_NODE;
             match tangent.as_deref_mut() {
                 Some(t) => {
-                    element.tangent(&ctx, &self.gather, &mut self.f_local[..m], &mut self.k_local[..m * m]);
+                    element.tangent(
+                        &ctx,
+                        &self.gather,
+                        &mut self.f_local[..m],
+                        &mut self.k_local[..m * m],
+                    );
                     self.assembler.add_matrix(e, &self.k_local[..m * m], t);
                 }
                 None => element.internal_force(&ctx, &self.gather, &mut self.f_local[..m]),
@@ -150,7 +177,9 @@ impl NonlinearSystem for StaticSystem<'_> {
             }
         }
         if let Some(bad) = residual.iter().position(|v| !v.is_finite()) {
-            return Err(EvalError { message: format!("non-finite residual at equation {bad}") });
+            return Err(EvalError {
+                message: format!("non-finite residual at equation {bad}"),
+            });
         }
         Ok(())
     }
@@ -183,7 +212,10 @@ impl NonlinearSystem for StaticSystem<'_> {
 
     fn force_scale(&self, lambda: f64) -> f64 {
         let n = self.model.stringing_load.len();
-        let norm = (0..n).map(|i| self.external(lambda, i).powi(2)).sum::<f64>().sqrt();
+        let norm = (0..n)
+            .map(|i| self.external(lambda, i).powi(2))
+            .sum::<f64>()
+            .sqrt();
         norm.max(1.0)
     }
 }

@@ -25,9 +25,13 @@ pub fn load(path: &Path, registry: &ElementRegistry) -> Result<SectionSpec, Inpu
 }
 
 /// Parses and validates input text that came from `path`.
-pub fn load_str(path: &Path, text: &str, registry: &ElementRegistry) -> Result<SectionSpec, InputError> {
+pub fn load_str(
+    path: &Path,
+    text: &str,
+    registry: &ElementRegistry,
+) -> Result<SectionSpec, InputError> {
     let locator = Locator::new(path, text);
-    let raw: schema::RawInput = toml::from_str(text).map_err(|e| locator.from_toml(&e))?;
+    let raw: schema::RawInput = toml::from_str(text).map_err(|e| locator.toml_error(&e))?;
     validate::validate(raw, &locator, registry)
 }
 
@@ -41,7 +45,11 @@ pub struct Locator<'a> {
 impl<'a> Locator<'a> {
     /// Indexes `text` (read from `path`).
     pub fn new(path: &'a Path, text: &'a str) -> Self {
-        Self { path, text, index: SpanIndex::new(text) }
+        Self {
+            path,
+            text,
+            index: SpanIndex::new(text),
+        }
     }
 
     /// The full input text.
@@ -73,7 +81,7 @@ impl<'a> Locator<'a> {
         }
     }
 
-    fn from_toml(&self, e: &toml::de::Error) -> InputError {
+    fn toml_error(&self, e: &toml::de::Error) -> InputError {
         let message = e.message().trim().to_string();
         let offset = e.span().map(|s| s.start).unwrap_or(0);
         let line = line_of(self.text, offset);

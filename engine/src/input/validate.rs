@@ -5,7 +5,9 @@ use super::schema::{RawInput, SCHEMA_VERSION};
 use super::Locator;
 use crate::error::{InputError, InputErrorKind as K};
 use crate::registry::ElementRegistry;
-use crate::spec::{Conductor, LoadCase, SectionSpec, SolverSpec, SpanSpec, StringingTarget, Support};
+use crate::spec::{
+    Conductor, LoadCase, SectionSpec, SolverSpec, SpanSpec, StringingTarget, Support,
+};
 use glaze_aero::ice::GLAZE_ICE_DENSITY;
 use glaze_aero::RadialIce;
 use nalgebra::Vector3;
@@ -18,7 +20,11 @@ fn positive(loc: &Locator<'_>, key: &str, value: f64, unit: &str) -> Result<f64,
     if value.is_finite() && value > 0.0 {
         Ok(value)
     } else {
-        Err(loc.error(K::InvalidValue, key, format!("must be a positive finite number ({unit}), got {value}")))
+        Err(loc.error(
+            K::InvalidValue,
+            key,
+            format!("must be a positive finite number ({unit}), got {value}"),
+        ))
     }
 }
 
@@ -27,16 +33,27 @@ fn temperature(loc: &Locator<'_>, key: &str, value: f64) -> Result<f64, InputErr
     if value.is_finite() && (-80.0..=250.0).contains(&value) {
         Ok(value)
     } else {
-        Err(loc.error(K::InvalidValue, key, format!("must be a conductor temperature in °C between −80 and 250, got {value}")))
+        Err(loc.error(
+            K::InvalidValue,
+            key,
+            format!("must be a conductor temperature in °C between −80 and 250, got {value}"),
+        ))
     }
 }
 
-pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegistry) -> Result<SectionSpec, InputError> {
+pub(super) fn validate(
+    raw: RawInput,
+    loc: &Locator<'_>,
+    registry: &ElementRegistry,
+) -> Result<SectionSpec, InputError> {
     if raw.glaze.schema_version != SCHEMA_VERSION {
         return Err(loc.error(
             K::InvalidValue,
             "glaze.schema_version",
-            format!("this glaze reads schema version {SCHEMA_VERSION}, the file says {}", raw.glaze.schema_version),
+            format!(
+                "this glaze reads schema version {SCHEMA_VERSION}, the file says {}",
+                raw.glaze.schema_version
+            ),
         ));
     }
 
@@ -48,7 +65,11 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
         let mass = positive(loc, &key("mass_per_length"), c.mass_per_length, "kg/m")?;
         let alpha = c.thermal_expansion;
         if !(alpha.is_finite() && (0.0..1e-3).contains(&alpha)) {
-            return Err(loc.error(K::InvalidValue, &key("thermal_expansion"), format!("must be in 1/K between 0 and 1e-3, got {alpha}")));
+            return Err(loc.error(
+                K::InvalidValue,
+                &key("thermal_expansion"),
+                format!("must be in 1/K between 0 and 1e-3, got {alpha}"),
+            ));
         }
         let polar = match c.polar_inertia_per_length {
             Some(j) => positive(loc, &key("polar_inertia_per_length"), j, "kg·m")?,
@@ -60,15 +81,29 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
             diameter,
             mass_per_length: mass,
             axial_stiffness: positive(loc, &key("axial_stiffness"), c.axial_stiffness, "N")?,
-            bending_stiffness: positive(loc, &key("bending_stiffness"), c.bending_stiffness, "N·m²")?,
-            torsional_stiffness: positive(loc, &key("torsional_stiffness"), c.torsional_stiffness, "N·m²")?,
+            bending_stiffness: positive(
+                loc,
+                &key("bending_stiffness"),
+                c.bending_stiffness,
+                "N·m²",
+            )?,
+            torsional_stiffness: positive(
+                loc,
+                &key("torsional_stiffness"),
+                c.torsional_stiffness,
+                "N·m²",
+            )?,
             thermal_expansion: alpha,
             rated_strength: positive(loc, &key("rated_strength"), c.rated_strength, "N")?,
             polar_inertia_per_length: polar,
         });
     }
     if conductors.is_empty() {
-        return Err(loc.error(K::MissingKey, "conductors", "define at least one conductor type, e.g. [conductors.main]"));
+        return Err(loc.error(
+            K::MissingKey,
+            "conductors",
+            "define at least one conductor type, e.g. [conductors.main]",
+        ));
     }
 
     let mut supports = Vec::new();
@@ -76,18 +111,37 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
     for (i, s) in raw.supports.iter().enumerate() {
         let key = format!("supports[{i}]");
         if s.name.trim().is_empty() {
-            return Err(loc.error(K::InvalidValue, &format!("{key}.name"), "a support needs a non-empty name"));
+            return Err(loc.error(
+                K::InvalidValue,
+                &format!("{key}.name"),
+                "a support needs a non-empty name",
+            ));
         }
         if support_index.insert(s.name.clone(), i).is_some() {
-            return Err(loc.error(K::InvalidValue, &format!("{key}.name"), format!("support name `{}` is used twice", s.name)));
+            return Err(loc.error(
+                K::InvalidValue,
+                &format!("{key}.name"),
+                format!("support name `{}` is used twice", s.name),
+            ));
         }
         if s.position.iter().any(|v| !v.is_finite()) {
-            return Err(loc.error(K::InvalidValue, &format!("{key}.position"), "coordinates must be finite numbers in m"));
+            return Err(loc.error(
+                K::InvalidValue,
+                &format!("{key}.position"),
+                "coordinates must be finite numbers in m",
+            ));
         }
-        supports.push(Support { name: s.name.clone(), position: Vector3::from(s.position) });
+        supports.push(Support {
+            name: s.name.clone(),
+            position: Vector3::from(s.position),
+        });
     }
     if supports.len() < 2 {
-        return Err(loc.error(K::MissingKey, "supports", "a section needs at least two [[supports]]"));
+        return Err(loc.error(
+            K::MissingKey,
+            "supports",
+            "a section needs at least two [[supports]]",
+        ));
     }
 
     let mut spans = Vec::new();
@@ -96,18 +150,33 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
         let find = |field: &str, name: &str| {
             support_index.get(name).copied().ok_or_else(|| {
                 let known: Vec<&str> = supports.iter().map(|s| s.name.as_str()).collect();
-                loc.error(K::UnknownName, &key(field), format!("no support named `{name}`; known supports: {}", known.join(", ")))
+                loc.error(
+                    K::UnknownName,
+                    &key(field),
+                    format!(
+                        "no support named `{name}`; known supports: {}",
+                        known.join(", ")
+                    ),
+                )
             })
         };
         let from = find("from", &s.from)?;
         let to = find("to", &s.to)?;
         let conductor = *conductor_index.get(&s.conductor).ok_or_else(|| {
             let known: Vec<&str> = conductors.iter().map(|c| c.name.as_str()).collect();
-            loc.error(K::UnknownName, &key("conductor"), format!("no conductor named `{}`; known conductors: {}", s.conductor, known.join(", ")))
+            loc.error(
+                K::UnknownName,
+                &key("conductor"),
+                format!(
+                    "no conductor named `{}`; known conductors: {}",
+                    s.conductor,
+                    known.join(", ")
+                ),
+            )
         })?;
         let d = supports[to].position - supports[from].position;
         let horizontal = d.x.hypot(d.y);
-        if !(horizontal > 1e-3) {
+        if horizontal <= 1e-3 || horizontal.is_nan() {
             return Err(loc.error(
                 K::InvalidValue,
                 &key("to"),
@@ -119,7 +188,14 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
             (Some(h), None, None) => {
                 let h = positive(loc, &key("horizontal_tension"), h, "N")?;
                 if h >= rts {
-                    return Err(loc.error(K::Impossible, &key("horizontal_tension"), format!("{h} N is not below the rated strength {rts} N of `{}`", s.conductor)));
+                    return Err(loc.error(
+                        K::Impossible,
+                        &key("horizontal_tension"),
+                        format!(
+                            "{h} N is not below the rated strength {rts} N of `{}`",
+                            s.conductor
+                        ),
+                    ));
                 }
                 StringingTarget::HorizontalTension(h)
             }
@@ -130,30 +206,60 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
                 }
                 StringingTarget::Sag(d)
             }
-            (None, None, Some(c)) => StringingTarget::CatenaryParameter(positive(loc, &key("catenary_parameter"), c, "m")?),
+            (None, None, Some(c)) => StringingTarget::CatenaryParameter(positive(
+                loc,
+                &key("catenary_parameter"),
+                c,
+                "m",
+            )?),
             (None, None, None) => {
-                return Err(loc.error(K::MissingKey, &format!("spans[{i}]"), "give one stringing target: horizontal_tension, sag or catenary_parameter"))
+                return Err(loc.error(
+                    K::MissingKey,
+                    &format!("spans[{i}]"),
+                    "give one stringing target: horizontal_tension, sag or catenary_parameter",
+                ))
             }
             _ => {
-                return Err(loc.error(K::InvalidValue, &format!("spans[{i}]"), "give only one of horizontal_tension, sag and catenary_parameter"))
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &format!("spans[{i}]"),
+                    "give only one of horizontal_tension, sag and catenary_parameter",
+                ))
             }
         };
-        spans.push(SpanSpec { from, to, conductor, target });
+        spans.push(SpanSpec {
+            from,
+            to,
+            conductor,
+            target,
+        });
     }
     if spans.is_empty() {
-        return Err(loc.error(K::MissingKey, "spans", "a section needs at least one [[spans]]"));
+        return Err(loc.error(
+            K::MissingKey,
+            "spans",
+            "a section needs at least one [[spans]]",
+        ));
     }
 
     if registry.get(&raw.mesh.kind).is_none() {
         return Err(loc.error(
             K::UnknownName,
             "mesh.type",
-            format!("unknown element type `{}`; known types: {}", raw.mesh.kind, registry.names().join(", ")),
+            format!(
+                "unknown element type `{}`; known types: {}",
+                raw.mesh.kind,
+                registry.names().join(", ")
+            ),
         ));
     }
     let n = raw.mesh.elements_per_span;
     if !(2..=100_000).contains(&n) {
-        return Err(loc.error(K::InvalidValue, "mesh.elements_per_span", format!("must be between 2 and 100000, got {n}")));
+        return Err(loc.error(
+            K::InvalidValue,
+            "mesh.elements_per_span",
+            format!("must be between 2 and 100000, got {n}"),
+        ));
     }
 
     let ice = match &raw.load_case.ice {
@@ -161,13 +267,20 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
         Some(ice) => {
             let t = ice.thickness;
             if !(t.is_finite() && t >= 0.0) {
-                return Err(loc.error(K::InvalidValue, "load_case.ice.thickness", format!("must be zero or a positive radial thickness in m, got {t}")));
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "load_case.ice.thickness",
+                    format!("must be zero or a positive radial thickness in m, got {t}"),
+                ));
             }
             let density = match ice.density {
                 Some(rho) => positive(loc, "load_case.ice.density", rho, "kg/m³")?,
                 None => GLAZE_ICE_DENSITY,
             };
-            Some(RadialIce { thickness: t, density })
+            Some(RadialIce {
+                thickness: t,
+                density,
+            })
         }
     };
     let gravity = match raw.load_case.gravity {
@@ -177,7 +290,13 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
 
     let solver = SolverSpec {
         max_iterations: match raw.solver.max_iterations {
-            Some(0) => return Err(loc.error(K::InvalidValue, "solver.max_iterations", "must be at least 1")),
+            Some(0) => {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "solver.max_iterations",
+                    "must be at least 1",
+                ))
+            }
             Some(n) => n,
             None => 30,
         },
@@ -187,12 +306,24 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
         },
         initial_load_step: match raw.solver.initial_load_step {
             Some(s) if s > 0.0 && s <= 1.0 => s,
-            Some(s) => return Err(loc.error(K::InvalidValue, "solver.initial_load_step", format!("must be in (0, 1], got {s}"))),
+            Some(s) => {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "solver.initial_load_step",
+                    format!("must be in (0, 1], got {s}"),
+                ))
+            }
             None => 0.25,
         },
         min_load_step: match raw.solver.min_load_step {
             Some(s) if s > 0.0 && s <= 1.0 => s,
-            Some(s) => return Err(loc.error(K::InvalidValue, "solver.min_load_step", format!("must be in (0, 1], got {s}"))),
+            Some(s) => {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "solver.min_load_step",
+                    format!("must be in (0, 1], got {s}"),
+                ))
+            }
             None => 1e-4,
         },
     };
@@ -206,7 +337,11 @@ pub(super) fn validate(raw: RawInput, loc: &Locator<'_>, registry: &ElementRegis
         spans,
         element_kind: raw.mesh.kind,
         elements_per_span: n,
-        stringing_temperature: temperature(loc, "stringing.temperature", raw.stringing.temperature)?,
+        stringing_temperature: temperature(
+            loc,
+            "stringing.temperature",
+            raw.stringing.temperature,
+        )?,
         load_case: LoadCase {
             name: raw.load_case.name,
             temperature: temperature(loc, "load_case.temperature", raw.load_case.temperature)?,

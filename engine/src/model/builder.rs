@@ -26,7 +26,11 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         loc.error(
             InputErrorKind::UnknownName,
             "mesh.type",
-            format!("unknown element type `{}`; known types: {}", spec.element_kind, registry.names().join(", ")),
+            format!(
+                "unknown element type `{}`; known types: {}",
+                spec.element_kind,
+                registry.names().join(", ")
+            ),
         )
     })?;
     let g = spec.load_case.gravity;
@@ -54,17 +58,27 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             axial_stiffness: c.axial_stiffness,
         };
         let key = target_key(i, &s.target);
-        let impossible = |e: crate::formfinding::CatenaryError| loc.error(InputErrorKind::Impossible, &key, e.to_string());
+        let impossible = |e: crate::formfinding::CatenaryError| {
+            loc.error(InputErrorKind::Impossible, &key, e.to_string())
+        };
         let h = match s.target {
             StringingTarget::HorizontalTension(h) => h,
-            StringingTarget::Sag(d) => Catenary::from_sag(cat_span, d).map_err(impossible)?.horizontal_tension,
+            StringingTarget::Sag(d) => {
+                Catenary::from_sag(cat_span, d)
+                    .map_err(impossible)?
+                    .horizontal_tension
+            }
             StringingTarget::CatenaryParameter(p) => p * cat_span.weight_per_length,
         };
         let chain = DiscreteChain::strung(cat_span, h, n_el).map_err(impossible)?;
         // Largest stringing tension is at the higher support (or either on a level span).
-        let v_last = chain.first_vertical + (n_el as f64 - 1.0) * cat_span.weight_per_length * chain.unstretched_length / n_el as f64;
+        let v_last = chain.first_vertical
+            + (n_el as f64 - 1.0) * cat_span.weight_per_length * chain.unstretched_length
+                / n_el as f64;
         let end_weight = 0.5 * cat_span.weight_per_length * chain.unstretched_length / n_el as f64;
-        let t_max = h.hypot(chain.first_vertical - end_weight).max(h.hypot(v_last + end_weight));
+        let t_max = h
+            .hypot(chain.first_vertical - end_weight)
+            .max(h.hypot(v_last + end_weight));
         if t_max >= c.rated_strength {
             return Err(loc.error(
                 InputErrorKind::Impossible,
@@ -86,8 +100,14 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         restrained[first + n_el] = [true; DOF_PER_NODE];
 
         let ell = chain.unstretched_length / n_el as f64;
-        let ice_mass = spec.load_case.ice.map_or(0.0, |ice| ice.mass_per_length(c.diameter));
-        let ice_polar = spec.load_case.ice.map_or(0.0, |ice| ice.polar_inertia_per_length(c.diameter));
+        let ice_mass = spec
+            .load_case
+            .ice
+            .map_or(0.0, |ice| ice.mass_per_length(c.diameter));
+        let ice_polar = spec
+            .load_case
+            .ice
+            .map_or(0.0, |ice| ice.polar_inertia_per_length(c.diameter));
         let across = Vector3::z().cross(&direction);
         let first_element = elements.len();
         for k in 0..n_el {
@@ -101,9 +121,13 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
                 mass_per_length: c.mass_per_length + ice_mass,
                 polar_inertia_per_length: c.polar_inertia_per_length + ice_polar,
             };
-            let element = kind
-                .build(&segment)
-                .map_err(|e| loc.error(InputErrorKind::InvalidValue, &format!("spans[{i}]"), format!("element {k} of this span: {e}")))?;
+            let element = kind.build(&segment).map_err(|e| {
+                loc.error(
+                    InputErrorKind::InvalidValue,
+                    &format!("spans[{i}]"),
+                    format!("element {k} of this span: {e}"),
+                )
+            })?;
             if element.uses_rotations() {
                 uses_rotation[ids[0]] = true;
                 uses_rotation[ids[1]] = true;
@@ -140,7 +164,9 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         .map(|(r, &rot)| std::array::from_fn(|d| !r[d] && (d < 3 || rot)))
         .collect();
     let dofs = DofMap::new(&free);
-    let support_nodes: Vec<usize> = (0..nodes.len()).filter(|&n| restrained[n].iter().any(|&r| r)).collect();
+    let support_nodes: Vec<usize> = (0..nodes.len())
+        .filter(|&n| restrained[n].iter().any(|&r| r))
+        .collect();
 
     let mut groups = BTreeMap::new();
     for (i, s) in spans.iter().enumerate() {

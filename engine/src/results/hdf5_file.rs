@@ -24,7 +24,10 @@ pub struct ResultsWriter {
 }
 
 fn err(path: &Path, e: impl std::fmt::Display) -> GlazeError {
-    GlazeError::Results { path: path.to_path_buf(), message: e.to_string() }
+    GlazeError::Results {
+        path: path.to_path_buf(),
+        message: e.to_string(),
+    }
 }
 
 fn text(s: &str) -> VarLenUnicode {
@@ -34,7 +37,10 @@ fn text(s: &str) -> VarLenUnicode {
 
 /// The partial-file name used while `target` is being written.
 pub fn partial_path(target: &Path) -> PathBuf {
-    let mut name = target.file_name().map(|n| n.to_os_string()).unwrap_or_default();
+    let mut name = target
+        .file_name()
+        .map(|n| n.to_os_string())
+        .unwrap_or_default();
     name.push(".partial");
     target.with_file_name(name)
 }
@@ -44,7 +50,11 @@ impl ResultsWriter {
     pub fn create(target: &Path, input_toml: &str) -> Result<Self, GlazeError> {
         let partial = partial_path(target);
         let file = hdf5::File::create(&partial).map_err(|e| err(target, e))?;
-        let w = Self { file: Some(file), partial, target: target.to_path_buf() };
+        let w = Self {
+            file: Some(file),
+            partial,
+            target: target.to_path_buf(),
+        };
         w.attr_str("format", FORMAT_NAME)?;
         w.attr_u32("format_version", FORMAT_VERSION)?;
         w.attr_str("program_version", env!("CARGO_PKG_VERSION"))?;
@@ -70,7 +80,10 @@ impl ResultsWriter {
         let f = self.file();
         let attr = match f.attr(name) {
             Ok(a) => a,
-            Err(_) => f.new_attr::<u32>().create(name).map_err(|e| err(&self.target, e))?,
+            Err(_) => f
+                .new_attr::<u32>()
+                .create(name)
+                .map_err(|e| err(&self.target, e))?,
         };
         attr.write_scalar(&value).map_err(|e| err(&self.target, e))
     }
@@ -91,12 +104,25 @@ impl ResultsWriter {
         let pos = Array2::from_shape_fn((n, 3), |(i, d)| model.nodes[i][d]);
         write_f64(&g, "node_position", pos.view().into_dyn(), "m", t)?;
         let e = model.elements.len();
-        let conn = Array2::from_shape_fn((e, 2), |(i, k)| model.elements[i].nodes().get(k).map_or(-1, |&v| v as i64));
+        let conn = Array2::from_shape_fn((e, 2), |(i, k)| {
+            model.elements[i].nodes().get(k).map_or(-1, |&v| v as i64)
+        });
         dataset(&g, "element_nodes", conn.view(), "1", t)?;
-        let kinds: Array1<VarLenUnicode> = model.elements.iter().map(|el| text(el.kind())).collect();
+        let kinds: Array1<VarLenUnicode> =
+            model.elements.iter().map(|el| text(el.kind())).collect();
         dataset(&g, "element_kind", kinds.view(), "1", t)?;
-        let l0: Array1<f64> = model.elements.iter().map(|el| el.unstretched_length()).collect();
-        write_f64(&g, "element_unstretched_length", l0.view().into_dyn(), "m", t)?;
+        let l0: Array1<f64> = model
+            .elements
+            .iter()
+            .map(|el| el.unstretched_length())
+            .collect();
+        write_f64(
+            &g,
+            "element_unstretched_length",
+            l0.view().into_dyn(),
+            "m",
+            t,
+        )?;
         let groups = g.create_group("groups").map_err(|e| err(t, e))?;
         for (name, nodes) in &model.groups {
             let idx: Array1<i64> = nodes.iter().map(|&v| v as i64).collect();
@@ -106,7 +132,12 @@ impl ResultsWriter {
     }
 
     /// Writes `/static`.
-    pub fn write_static(&self, model: &Model, result: &StaticResult, load_case: &str) -> Result<(), GlazeError> {
+    pub fn write_static(
+        &self,
+        model: &Model,
+        result: &StaticResult,
+        load_case: &str,
+    ) -> Result<(), GlazeError> {
         let t = &self.target;
         let g = self.file().create_group("static").map_err(|e| err(t, e))?;
         g.new_attr::<VarLenUnicode>()
@@ -122,27 +153,69 @@ impl ResultsWriter {
             .iter()
             .map(|r| {
                 let q = nalgebra::UnitQuaternion::from_matrix(r);
-                let q = if q.w < 0.0 { -q.into_inner() } else { q.into_inner() };
+                let q = if q.w < 0.0 {
+                    -q.into_inner()
+                } else {
+                    q.into_inner()
+                };
                 [q.w, q.i, q.j, q.k]
             })
             .collect();
         let rot = Array2::from_shape_fn((n, 4), |(i, k)| quats[i][k]);
         write_f64(&g, "rotation", rot.view().into_dyn(), "1", t)?;
-        let axial: Array1<f64> = result.element_output.iter().map(|o| o.axial_force).collect();
+        let axial: Array1<f64> = result
+            .element_output
+            .iter()
+            .map(|o| o.axial_force)
+            .collect();
         write_f64(&g, "element_axial_force", axial.view().into_dyn(), "N", t)?;
         let s = result.support_force.len();
         let sf = Array2::from_shape_fn((s, 3), |(i, d)| result.support_force[i][d]);
         write_f64(&g, "support_force", sf.view().into_dyn(), "N", t)?;
-        let column = |f: &dyn Fn(&crate::analysis::SpanSummary) -> f64| -> Array1<f64> { result.spans.iter().map(f).collect() };
+        let column = |f: &dyn Fn(&crate::analysis::SpanSummary) -> f64| -> Array1<f64> {
+            result.spans.iter().map(f).collect()
+        };
         let spans = g.create_group("spans").map_err(|e| err(t, e))?;
         write_f64(&spans, "sag", column(&|s| s.sag).view().into_dyn(), "m", t)?;
-        write_f64(&spans, "sag_position", column(&|s| s.sag_position).view().into_dyn(), "m", t)?;
-        write_f64(&spans, "horizontal_tension", column(&|s| s.horizontal_tension).view().into_dyn(), "N", t)?;
-        let st = Array2::from_shape_fn((result.spans.len(), 2), |(i, k)| result.spans[i].support_tension[k]);
+        write_f64(
+            &spans,
+            "sag_position",
+            column(&|s| s.sag_position).view().into_dyn(),
+            "m",
+            t,
+        )?;
+        write_f64(
+            &spans,
+            "horizontal_tension",
+            column(&|s| s.horizontal_tension).view().into_dyn(),
+            "N",
+            t,
+        )?;
+        let st = Array2::from_shape_fn((result.spans.len(), 2), |(i, k)| {
+            result.spans[i].support_tension[k]
+        });
         write_f64(&spans, "support_tension", st.view().into_dyn(), "N", t)?;
-        write_f64(&spans, "horizontal_length", column(&|s| s.horizontal_length).view().into_dyn(), "m", t)?;
-        write_f64(&spans, "conductor_length", column(&|s| s.conductor_length).view().into_dyn(), "m", t)?;
-        write_f64(&spans, "unstretched_length", column(&|s| s.unstretched_length).view().into_dyn(), "m", t)?;
+        write_f64(
+            &spans,
+            "horizontal_length",
+            column(&|s| s.horizontal_length).view().into_dyn(),
+            "m",
+            t,
+        )?;
+        write_f64(
+            &spans,
+            "conductor_length",
+            column(&|s| s.conductor_length).view().into_dyn(),
+            "m",
+            t,
+        )?;
+        write_f64(
+            &spans,
+            "unstretched_length",
+            column(&|s| s.unstretched_length).view().into_dyn(),
+            "m",
+            t,
+        )?;
         Ok(())
     }
 
@@ -176,13 +249,23 @@ fn dataset<T: hdf5::H5Type, D: ndarray::Dimension>(
     unit: &str,
     path: &Path,
 ) -> Result<(), GlazeError> {
-    let ds = g.new_dataset_builder().with_data(data).create(name).map_err(|e| err(path, e))?;
+    let ds = g
+        .new_dataset_builder()
+        .with_data(data)
+        .create(name)
+        .map_err(|e| err(path, e))?;
     ds.new_attr::<VarLenUnicode>()
         .create("unit")
         .and_then(|a| a.write_scalar(&text(unit)))
         .map_err(|e| err(path, e))
 }
 
-fn write_f64(g: &hdf5::Group, name: &str, data: ndarray::ArrayViewD<'_, f64>, unit: &str, path: &Path) -> Result<(), GlazeError> {
+fn write_f64(
+    g: &hdf5::Group,
+    name: &str,
+    data: ndarray::ArrayViewD<'_, f64>,
+    unit: &str,
+    path: &Path,
+) -> Result<(), GlazeError> {
     dataset(g, name, data, unit, path)
 }
