@@ -1,0 +1,76 @@
+//! `glaze check FILE`: validate and summarise.
+
+use glaze_engine::spec::StringingTarget;
+use glaze_engine::summary::ModelSummary;
+use glaze_engine::{input, model, ElementRegistry, GlazeError};
+use std::path::Path;
+
+/// `glaze check FILE`.
+pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
+    let registry = ElementRegistry::with_builtin();
+    let spec = input::load(file, &registry)?;
+    let model = model::build(&spec, &registry)?;
+    if quiet {
+        return Ok(());
+    }
+    let s = ModelSummary::of(&spec, &model);
+    println!("{}: valid", file.display());
+    if !spec.title.is_empty() {
+        println!("title: {}", spec.title);
+    }
+    println!(
+        "model: {} spans, {} nodes, {} elements of type `{}` ({} per span), {} free DOF, {} supported nodes",
+        s.spans.len(),
+        s.nodes,
+        s.elements,
+        spec.element_kind,
+        spec.elements_per_span,
+        s.dofs,
+        s.supports
+    );
+    let ice = spec.load_case.ice.map_or("no ice".to_string(), |i| {
+        format!(
+            "radial ice {:.1} mm at {:.0} kg/m³",
+            i.thickness * 1e3,
+            i.density
+        )
+    });
+    println!(
+        "stringing at {:.1} °C; load case `{}`: {:.1} °C, {ice}",
+        spec.stringing_temperature, spec.load_case.name, spec.load_case.temperature
+    );
+    println!();
+    println!(
+        "{:>4}  {:<10} {:<10} {:<12} {:>9} {:>8}  {:<22} {:>12} {:>10}",
+        "span",
+        "from",
+        "to",
+        "conductor",
+        "length m",
+        "Δh m",
+        "stringing target",
+        "conductor kg",
+        "ice kg"
+    );
+    for (i, l) in s.spans.iter().enumerate() {
+        let target = match l.target {
+            StringingTarget::HorizontalTension(h) => format!("H = {h:.0} N"),
+            StringingTarget::Sag(d) => format!("sag = {d:.3} m"),
+            StringingTarget::CatenaryParameter(c) => format!("H/w = {c:.1} m"),
+        };
+        println!(
+            "{:>4}  {:<10} {:<10} {:<12} {:>9.2} {:>8.2}  {:<22} {:>12.1} {:>10.1}",
+            i + 1,
+            l.supports[0],
+            l.supports[1],
+            l.conductor,
+            l.horizontal_length,
+            l.height_difference,
+            target,
+            l.conductor_mass,
+            l.ice_mass
+        );
+    }
+    Ok(())
+}
+
