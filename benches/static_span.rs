@@ -49,23 +49,15 @@ fn static_span(c: &mut Criterion) {
     group.sample_size(10);
     for elements in [50usize, 500, 5000] {
         let text = span_input(elements);
-        let spec =
-            input::load_str(Path::new("bench.toml"), &text, &registry).expect("valid bench input");
-        group.bench_with_input(
-            BenchmarkId::new("beam_elements", elements),
-            &elements,
-            |b, _| {
-                b.iter(|| {
-                    let m = model::build(&spec, &registry).expect("model");
-                    let r = run_static(&spec, &m).expect("static solve");
-                    assert_eq!(
-                        r.report.factor_stats.symbolic_cholesky + r.report.factor_stats.symbolic_lu,
-                        1
-                    );
-                    r
-                })
-            },
-        );
+        let spec = input::load_str(Path::new("bench.toml"), &text, &registry).expect("valid bench input");
+        group.bench_with_input(BenchmarkId::new("beam_elements", elements), &elements, |b, _| {
+            b.iter(|| {
+                let m = model::build(&spec, &registry).expect("model");
+                let r = run_static(&spec, &m).expect("static solve");
+                assert_eq!(r.report.factor_stats.symbolic_cholesky + r.report.factor_stats.symbolic_lu, 1);
+                r
+            })
+        });
     }
     group.finish();
 }

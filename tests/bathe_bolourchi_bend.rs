@@ -76,10 +76,7 @@ fn bend_tip_matches_published_within_one_percent() {
             tip.z,
             100.0 * rel
         );
-        assert!(
-            rel < 0.01,
-            "{n_el} elements: tip {tip:?} vs Bathe & Bolourchi {bb:?}"
-        );
+        assert!(rel < 0.01, "{n_el} elements: tip {tip:?} vs Bathe & Bolourchi {bb:?}");
         for k in 0..3 {
             let rel = (tip[k] - SIMO_VU_QUOC[k]).abs() / SIMO_VU_QUOC[k];
             assert!(

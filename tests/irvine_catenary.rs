@@ -73,22 +73,10 @@ fn reference(l: f64, dz: f64, h0: f64, t_ice: f64, dt: f64) -> Reference {
     // Largest sag where the slope V/H equals the chord slope.
     let s_star = (h * dz / l - v0) / wc;
     let (x, z) = irvine(h, v0, wc, s_star);
-    Reference {
-        sag: dz * x / l - z,
-        horizontal: h,
-        tension: [h.hypot(v0), h.hypot(v0 + wc * l0c)],
-    }
+    Reference { sag: dz * x / l - z, horizontal: h, tension: [h.hypot(v0), h.hypot(v0 + wc * l0c)] }
 }
 
-fn input_text(
-    kind: &str,
-    elements: usize,
-    l: f64,
-    dz: f64,
-    h0: f64,
-    t_ice: f64,
-    temperature: f64,
-) -> String {
+fn input_text(kind: &str, elements: usize, l: f64, dz: f64, h0: f64, t_ice: f64, temperature: f64) -> String {
     format!(
         r#"
 [glaze]
@@ -136,12 +124,7 @@ fn check(kind: &str, elements: usize, l: f64, dz: f64, h0: f64, t_ice: f64, temp
     let rel = |got: f64, want: f64| (got / want - 1.0).abs();
     let case = format!("{kind}, {elements} el, l={l}, h={dz}, ice={t_ice}, T={temperature}");
     // Issue #2 asks for 0.1 % on sag and horizontal tension.
-    assert!(
-        rel(s.sag, want.sag) < 1e-3,
-        "{case}: sag {} vs Irvine {}",
-        s.sag,
-        want.sag
-    );
+    assert!(rel(s.sag, want.sag) < 1e-3, "{case}: sag {} vs Irvine {}", s.sag, want.sag);
     assert!(
         rel(s.horizontal_tension, want.horizontal) < 1e-3,
         "{case}: H {} vs Irvine {}",

@@ -15,12 +15,8 @@ use nalgebra::Vector3;
 /// Mattiasson (1981), table of the cantilever under a tip load
 /// (`(PL²/EI, w/L, u/L)`, from memory). Each value is also confirmed
 /// below by the elastica solved in this file.
-const MATTIASSON: [(f64, f64, f64); 4] = [
-    (1.0, 0.30172, 0.05643),
-    (2.0, 0.49346, 0.16064),
-    (5.0, 0.71379, 0.38763),
-    (10.0, 0.81061, 0.55500),
-];
+const MATTIASSON: [(f64, f64, f64); 4] =
+    [(1.0, 0.30172, 0.05643), (2.0, 0.49346, 0.16064), (5.0, 0.71379, 0.38763), (10.0, 0.81061, 0.55500)];
 
 /// Inextensible elastica of the cantilever, in s ∈ [0, 1] (s = arc length
 /// / L): `θ'' = −α cos θ`, `θ(0) = 0`, `θ'(1) = 0` (no tip moment),
@@ -70,10 +66,7 @@ fn elastica_reference_is_converged_and_matches_the_table() {
         // The table is printed to 5 decimals; agreement to 1e-5 confirms
         // both the remembered values and the shooting solution.
         for (got, table) in [(w, w_table), (u, u_table)] {
-            assert!(
-                (got - table).abs() < 1.5e-5,
-                "α = {alpha}: {got} vs table {table}"
-            );
+            assert!((got - table).abs() < 1.5e-5, "α = {alpha}: {got} vs table {table}");
         }
     }
 }
@@ -97,9 +90,8 @@ fn cantilever_tip_matches_mattiasson_within_half_a_percent() {
         bowing: false,
         axial_torsion_coupling: 0.0,
     };
-    let points: Vec<Vector3<f64>> = (0..=n_el)
-        .map(|i| Vector3::new(l * i as f64 / n_el as f64, 0.0, 0.0))
-        .collect();
+    let points: Vec<Vector3<f64>> =
+        (0..=n_el).map(|i| Vector3::new(l * i as f64 / n_el as f64, 0.0, 0.0)).collect();
     for (alpha, w_table, u_table) in MATTIASSON {
         let p = alpha * ei / (l * l);
         let mut problem = StaticProblem::new(
@@ -113,9 +105,7 @@ fn cantilever_tip_matches_mattiasson_within_half_a_percent() {
         let w = -tip.z / l;
         let u = 1.0 - tip.x / l;
         let (w_exact, u_exact) = elastica(alpha);
-        for (name, got, exact, table) in
-            [("w/L", w, w_exact, w_table), ("u/L", u, u_exact, u_table)]
-        {
+        for (name, got, exact, table) in [("w/L", w, w_exact, w_table), ("u/L", u, u_exact, u_table)] {
             let rel_exact = (got - exact).abs() / exact;
             let rel_table = (got - table).abs() / table;
             println!(

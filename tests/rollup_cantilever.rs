@@ -28,9 +28,8 @@ fn tip_under_moment(m_over_ei_l: f64, n_el: usize, bowing: bool) -> Vector3<f64>
         bowing,
         axial_torsion_coupling: 0.0,
     };
-    let points: Vec<Vector3<f64>> = (0..=n_el)
-        .map(|i| Vector3::new(l * i as f64 / n_el as f64, 0.0, 0.0))
-        .collect();
+    let points: Vec<Vector3<f64>> =
+        (0..=n_el).map(|i| Vector3::new(l * i as f64 / n_el as f64, 0.0, 0.0)).collect();
     let m = m_over_ei_l * ei / l;
     let mut problem = StaticProblem::new(
         &points,
@@ -39,10 +38,7 @@ fn tip_under_moment(m_over_ei_l: f64, n_el: usize, bowing: bool) -> Vector3<f64>
         &[(n_el, [0.0, 0.0, 0.0, 0.0, 0.0, m])],
     );
     let report = problem.solve(0.1);
-    println!(
-        "M = {m_over_ei_l:.4} EI/L, {n_el} elements, bowing {bowing}: {} load steps",
-        report.steps
-    );
+    println!("M = {m_over_ei_l:.4} EI/L, {n_el} elements, bowing {bowing}: {} load steps", report.steps);
     problem.position(n_el) / l
 }
 
@@ -61,9 +57,6 @@ fn half_circle_puts_the_tip_at_two_l_over_pi() {
     for (n_el, bowing) in [(20, false), (20, true), (40, false)] {
         let tip = tip_under_moment(PI, n_el, bowing);
         println!("half circle: tip / L = {tip:?}, exact {exact:?}");
-        assert!(
-            (tip - exact).norm() < 1e-3,
-            "tip at {tip:?} L, exact {exact:?} L"
-        );
+        assert!((tip - exact).norm() < 1e-3, "tip at {tip:?} L, exact {exact:?} L");
     }
 }

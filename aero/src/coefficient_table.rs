@@ -206,15 +206,10 @@ impl CoefficientTable {
     /// # Errors
     /// [`TableError::Unreadable`] if the file cannot be read, and any of the
     /// content errors of [`CoefficientTable::from_csv_str`].
-    pub fn from_csv_path(
-        path: impl AsRef<Path>,
-        options: &TableOptions,
-    ) -> Result<Self, TableError> {
+    pub fn from_csv_path(path: impl AsRef<Path>, options: &TableOptions) -> Result<Self, TableError> {
         let path = path.as_ref();
-        let text = std::fs::read_to_string(path).map_err(|source| TableError::Unreadable {
-            path: path.to_path_buf(),
-            source,
-        })?;
+        let text = std::fs::read_to_string(path)
+            .map_err(|source| TableError::Unreadable { path: path.to_path_buf(), source })?;
         Self::from_csv_str(&text, path, options)
     }
 
@@ -297,10 +292,7 @@ impl CoefficientTable {
     ///
     /// # Errors
     /// As [`CoefficientTable::evaluate`].
-    pub fn evaluate_with_derivative(
-        &self,
-        alpha: f64,
-    ) -> Result<(Coefficients, Coefficients), TableError> {
+    pub fn evaluate_with_derivative(&self, alpha: f64) -> Result<(Coefficients, Coefficients), TableError> {
         let xv = self.reduce(alpha)?;
         let x = &self.alpha;
         let i = hermite::locate(x, xv);
@@ -308,19 +300,9 @@ impl CoefficientTable {
             Interpolation::Linear => hermite::linear(x, &c.y, i, xv),
             Interpolation::MonotoneCubic => hermite::cubic(x, &c.y, &c.d, i, xv),
         };
-        let [(cd, dcd), (cl, dcl), (cm, dcm)] = [
-            one(&self.columns[0]),
-            one(&self.columns[1]),
-            one(&self.columns[2]),
-        ];
-        Ok((
-            Coefficients { cd, cl, cm },
-            Coefficients {
-                cd: dcd,
-                cl: dcl,
-                cm: dcm,
-            },
-        ))
+        let [(cd, dcd), (cl, dcl), (cm, dcm)] =
+            [one(&self.columns[0]), one(&self.columns[1]), one(&self.columns[2])];
+        Ok((Coefficients { cd, cl, cm }, Coefficients { cd: dcd, cl: dcl, cm: dcm }))
     }
 
     /// Den Hartog coefficient `dC_L/dα + C_D` at `alpha` (rad), with
@@ -374,10 +356,7 @@ impl CoefficientTable {
     /// Map `alpha` into the tabulated range, or fail.
     fn reduce(&self, alpha: f64) -> Result<f64, TableError> {
         if !alpha.is_finite() {
-            return Err(TableError::NonFiniteAngle {
-                path: self.path.clone(),
-                alpha,
-            });
+            return Err(TableError::NonFiniteAngle { path: self.path.clone(), alpha });
         }
         let (lo, hi) = self.alpha_range();
         if (lo..=hi).contains(&alpha) {
@@ -407,12 +386,7 @@ fn check_angles(raw: &parse::RawTable, path: &Path, max_deg: f64) -> Result<(), 
         let (previous_line, line) = (raw.lines[i - 1], raw.lines[i]);
         let path = path.to_path_buf();
         if cur == prev {
-            return Err(TableError::DuplicateAlpha {
-                path,
-                line,
-                previous_line,
-                alpha_deg: cur,
-            });
+            return Err(TableError::DuplicateAlpha { path, line, previous_line, alpha_deg: cur });
         }
         if cur < prev {
             return Err(TableError::NotIncreasing {
@@ -425,13 +399,7 @@ fn check_angles(raw: &parse::RawTable, path: &Path, max_deg: f64) -> Result<(), 
         }
         let gap = cur - prev;
         if gap > max_deg * (1.0 + 1e-12) + 1e-9 {
-            return Err(TableError::Gap {
-                path,
-                line,
-                previous_line,
-                gap_deg: gap,
-                max_deg,
-            });
+            return Err(TableError::Gap { path, line, previous_line, gap_deg: gap, max_deg });
         }
     }
     Ok(())
@@ -473,11 +441,7 @@ fn check_period(raw: &mut parse::RawTable, path: &Path) -> Result<bool, TableErr
 }
 
 /// The reference diameter from the caller or the file, checked.
-fn resolve_diameter(
-    raw: &parse::RawTable,
-    path: &Path,
-    given: Option<f64>,
-) -> Result<f64, TableError> {
+fn resolve_diameter(raw: &parse::RawTable, path: &Path, given: Option<f64>) -> Result<f64, TableError> {
     match (given, raw.diameter) {
         (Some(value), file) => {
             if !(value.is_finite() && value > 0.0) {
@@ -501,10 +465,9 @@ fn resolve_diameter(
             Ok(value)
         }
         (None, Some((value, _))) => Ok(value),
-        (None, None) => Err(TableError::MissingReferenceDiameter {
-            path: path.to_path_buf(),
-            line: raw.header_line,
-        }),
+        (None, None) => {
+            Err(TableError::MissingReferenceDiameter { path: path.to_path_buf(), line: raw.header_line })
+        }
     }
 }
 

@@ -42,10 +42,7 @@ mod tests {
     #[test]
     fn annulus_mass_matches_area_difference() {
         // Area of an annulus π(r_o² − r_i²) (elementary geometry).
-        let ice = RadialIce {
-            thickness: 0.0125,
-            density: GLAZE_ICE_DENSITY,
-        };
+        let ice = RadialIce { thickness: 0.0125, density: GLAZE_ICE_DENSITY };
         let d = 0.02814;
         let area = PI * ((d / 2.0 + 0.0125f64).powi(2) - (d / 2.0f64).powi(2));
         assert!((ice.mass_per_length(d) - 900.0 * area).abs() < 1e-12);

@@ -61,13 +61,9 @@ fn scipy(table: &Path, lo: f64, hi: f64, mode: &str) -> Vec<[f64; 7]> {
         .map(|line| {
             let v: Vec<f64> = line
                 .split_whitespace()
-                .map(|f| {
-                    f.parse()
-                        .unwrap_or_else(|_| panic!("bad number in {line:?}"))
-                })
+                .map(|f| f.parse().unwrap_or_else(|_| panic!("bad number in {line:?}")))
                 .collect();
-            v.try_into()
-                .unwrap_or_else(|_| panic!("expected 7 numbers: {line:?}"))
+            v.try_into().unwrap_or_else(|_| panic!("expected 7 numbers: {line:?}"))
         })
         .collect();
     assert_eq!(rows.len(), POINTS, "script printed {} rows", rows.len());
@@ -107,18 +103,12 @@ fn compare(table: &CoefficientTable, lo: f64, hi: f64, with_derivatives: bool) {
             );
         }
     }
-    eprintln!(
-        "{}: {mode} worst relative difference {worst:e}",
-        table.path().display()
-    );
+    eprintln!("{}: {mode} worst relative difference {worst:e}", table.path().display());
 }
 
 /// Write `text` to a temporary CSV, returning its path.
 fn temp_table(name: &str, text: &str) -> PathBuf {
-    let path = std::env::temp_dir().join(format!(
-        "glaze-aero-scipy-{}-{name}.csv",
-        std::process::id()
-    ));
+    let path = std::env::temp_dir().join(format!("glaze-aero-scipy-{}-{name}.csv", std::process::id()));
     std::fs::write(&path, text).expect("write temporary table");
     path
 }
@@ -126,8 +116,7 @@ fn temp_table(name: &str, text: &str) -> PathBuf {
 #[test]
 fn crescent_table_matches_scipy_pchip_away_from_the_seam() {
     let table =
-        CoefficientTable::from_csv_path(examples().join("crescent_ice.csv"), &Default::default())
-            .unwrap();
+        CoefficientTable::from_csv_path(examples().join("crescent_ice.csv"), &Default::default()).unwrap();
     assert!(table.is_periodic());
     let a = table.alpha_points();
     compare(&table, a[1], a[a.len() - 2], true);
@@ -136,8 +125,7 @@ fn crescent_table_matches_scipy_pchip_away_from_the_seam() {
 #[test]
 fn bare_table_matches_scipy_pchip() {
     let table =
-        CoefficientTable::from_csv_path(examples().join("bare_round.csv"), &Default::default())
-            .unwrap();
+        CoefficientTable::from_csv_path(examples().join("bare_round.csv"), &Default::default()).unwrap();
     let a = table.alpha_points();
     compare(&table, a[1], a[a.len() - 2], true);
 }
@@ -172,10 +160,7 @@ fn uneven_non_periodic_subset_matches_scipy_pchip_including_the_ends() {
     assert!(!table.is_periodic());
     let (lo, hi) = table.alpha_range();
     compare(&table, lo, hi, true);
-    let linear = TableOptions {
-        interpolation: Interpolation::Linear,
-        ..Default::default()
-    };
+    let linear = TableOptions { interpolation: Interpolation::Linear, ..Default::default() };
     let table = CoefficientTable::from_csv_path(&path, &linear).unwrap();
     compare(&table, lo, hi, true);
     std::fs::remove_file(&path).ok();

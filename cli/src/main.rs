@@ -43,8 +43,7 @@ fn main() -> ExitCode {
     let level = if cli.quiet { "error" } else { "warn" };
     let _ = tracing_subscriber::fmt()
         .with_env_filter(
-            tracing_subscriber::EnvFilter::try_from_env("GLAZE_LOG")
-                .unwrap_or_else(|_| level.into()),
+            tracing_subscriber::EnvFilter::try_from_env("GLAZE_LOG").unwrap_or_else(|_| level.into()),
         )
         .with_writer(std::io::stderr)
         .try_init();

@@ -17,12 +17,7 @@ fn run_static(dir: &Path, input: &str) -> (Outcome, PathBuf, PathBuf) {
     std::fs::write(&file, input).unwrap();
     let out = dir.join("case.h5");
     let o = Command::new(env!("CARGO_BIN_EXE_glaze"))
-        .args([
-            "static",
-            file.to_str().unwrap(),
-            "--out",
-            out.to_str().unwrap(),
-        ])
+        .args(["static", file.to_str().unwrap(), "--out", out.to_str().unwrap()])
         .output()
         .unwrap();
     let outcome = Outcome {
@@ -39,26 +34,15 @@ fn check(input: &str, key: &str, line: usize, needle: &str, code: i32) {
     assert_eq!(o.code, code, "exit code; stderr: {}", o.stderr);
     assert!(!o.stderr.contains("panicked"), "panic: {}", o.stderr);
     let expected = format!("{}:{line}: {key}:", file.display());
-    assert!(
-        o.stderr.contains(&expected),
-        "expected `{expected}` in: {}",
-        o.stderr
-    );
-    assert!(
-        o.stderr.contains(needle),
-        "expected `{needle}` in: {}",
-        o.stderr
-    );
+    assert!(o.stderr.contains(&expected), "expected `{expected}` in: {}", o.stderr);
+    assert!(o.stderr.contains(needle), "expected `{needle}` in: {}", o.stderr);
     assert!(!out.exists(), "a results file was left behind");
     let partial = dir.path().join("case.h5.partial");
     assert!(!partial.exists(), "a partial file was left behind");
 }
 
 fn line_of(text: &str, pattern: &str) -> usize {
-    text.lines()
-        .position(|l| l.contains(pattern))
-        .map(|i| i + 1)
-        .expect("pattern in demo")
+    text.lines().position(|l| l.contains(pattern)).map(|i| i + 1).expect("pattern in demo")
 }
 
 #[test]
@@ -78,10 +62,7 @@ fn malformed_toml() {
 
 #[test]
 fn unknown_key() {
-    let bad = GOOD.replace(
-        "elements_per_span = 40",
-        "elements_per_span = 40\nelement_size = 5.0",
-    );
+    let bad = GOOD.replace("elements_per_span = 40", "elements_per_span = 40\nelement_size = 5.0");
     let line = line_of(&bad, "element_size");
     check(&bad, "mesh.element_size", line, "unknown field", 2);
 }
@@ -90,27 +71,14 @@ fn unknown_key() {
 fn missing_key() {
     let bad = GOOD.replace("rated_strength = 140100.0     # N\n", "");
     let line = line_of(&bad, "[conductors.acsr_795]");
-    check(
-        &bad,
-        "conductors.acsr_795.rated_strength",
-        line,
-        "missing field",
-        2,
-    );
+    check(&bad, "conductors.acsr_795.rated_strength", line, "missing field", 2);
 }
 
 #[test]
 fn zero_length_span() {
-    let bad = GOOD.replace(
-        "position = [380.0, 0.0, 41.5]",
-        "position = [0.0, 0.0, 41.5]",
-    );
+    let bad = GOOD.replace("position = [380.0, 0.0, 41.5]", "position = [0.0, 0.0, 41.5]");
     // The first span's `to` key names the support that makes it zero length.
-    let line = GOOD
-        .lines()
-        .position(|l| l.contains("to = \"T2\""))
-        .unwrap()
-        + 1;
+    let line = GOOD.lines().position(|l| l.contains("to = \"T2\"")).unwrap() + 1;
     check(&bad, "spans[0].to", line, "horizontal length", 2);
 }
 
@@ -118,13 +86,7 @@ fn zero_length_span() {
 fn negative_stiffness() {
     let bad = GOOD.replace("axial_stiffness = 3.28e7", "axial_stiffness = -3.28e7");
     let line = line_of(&bad, "axial_stiffness");
-    check(
-        &bad,
-        "conductors.acsr_795.axial_stiffness",
-        line,
-        "positive",
-        2,
-    );
+    check(&bad, "conductors.acsr_795.axial_stiffness", line, "positive", 2);
 }
 
 #[test]
@@ -145,13 +107,7 @@ fn unknown_element_type() {
 fn sag_longer_than_physically_possible() {
     let bad = GOOD.replace("sag = 13.5", "sag = 450.0");
     let line = line_of(&bad, "sag = 450.0");
-    check(
-        &bad,
-        "spans[1].sag",
-        line,
-        "not less than the span length",
-        2,
-    );
+    check(&bad, "spans[1].sag", line, "not less than the span length", 2);
 }
 
 #[test]
@@ -175,16 +131,11 @@ fn non_convergence() {
 
 #[test]
 fn unreadable_file_is_reported() {
-    let o = Command::new(env!("CARGO_BIN_EXE_glaze"))
-        .args(["check", "/nonexistent/x.toml"])
-        .output()
-        .unwrap();
+    let o =
+        Command::new(env!("CARGO_BIN_EXE_glaze")).args(["check", "/nonexistent/x.toml"]).output().unwrap();
     assert_eq!(o.status.code(), Some(2));
     let err = String::from_utf8_lossy(&o.stderr);
-    assert!(
-        err.contains("/nonexistent/x.toml") && err.contains("cannot read"),
-        "{err}"
-    );
+    assert!(err.contains("/nonexistent/x.toml") && err.contains("cannot read"), "{err}");
 }
 
 #[test]
@@ -196,8 +147,5 @@ fn failed_run_removes_a_stale_results_file() {
     let bad = GOOD.replace("sag = 13.5", "sag = -1.0");
     let (o, _, out) = run_static(dir.path(), &bad);
     assert_eq!(o.code, 2);
-    assert!(
-        !out.exists(),
-        "the stale results file of the earlier run was kept"
-    );
+    assert!(!out.exists(), "the stale results file of the earlier run was kept");
 }

@@ -12,19 +12,10 @@ fn run_crosscheck(input: &Path, tolerance: &str) {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("result.h5");
     let o = Command::new(env!("CARGO_BIN_EXE_glaze"))
-        .args([
-            "static",
-            input.to_str().unwrap(),
-            "--out",
-            out.to_str().unwrap(),
-        ])
+        .args(["static", input.to_str().unwrap(), "--out", out.to_str().unwrap()])
         .output()
         .unwrap();
-    assert!(
-        o.status.success(),
-        "glaze static failed: {}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    assert!(o.status.success(), "glaze static failed: {}", String::from_utf8_lossy(&o.stderr));
     let script = root.join("tests/python/catenary_crosscheck.py");
     let py = Command::new("python3")
         .arg(&script)
@@ -39,10 +30,7 @@ fn run_crosscheck(input: &Path, tolerance: &str) {
         "SciPy cross-check failed:\n{report}\n{}",
         String::from_utf8_lossy(&py.stderr)
     );
-    assert!(
-        report.contains("worst relative difference"),
-        "unexpected report: {report}"
-    );
+    assert!(report.contains("worst relative difference"), "unexpected report: {report}");
 }
 
 #[test]

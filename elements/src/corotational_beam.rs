@@ -117,17 +117,9 @@ impl CorotationalBeam {
         positive(KIND, "ei_z", section.ei_z)?;
         positive(KIND, "gj", section.gj)?;
         non_negative(KIND, "mass_per_length", section.mass_per_length)?;
-        non_negative(
-            KIND,
-            "polar_inertia_per_length",
-            section.polar_inertia_per_length,
-        )?;
+        non_negative(KIND, "polar_inertia_per_length", section.polar_inertia_per_length)?;
         finite(KIND, "thermal_expansion", section.thermal_expansion)?;
-        let c = finite(
-            KIND,
-            "axial_torsion_coupling",
-            section.axial_torsion_coupling,
-        )?;
+        let c = finite(KIND, "axial_torsion_coupling", section.axial_torsion_coupling)?;
         if c * c >= section.ea * section.gj {
             return Err(ElementError::InvalidValue {
                 kind: KIND,
@@ -179,13 +171,7 @@ impl CorotationalBeam {
         let r2 = r3.cross(&r1);
         let rr = Matrix3::from_columns(&[r1, r2, r3]);
         let theta = [0, 1].map(|i| so3::log(&(rr.transpose() * nodes[i].rotation * self.frame0)));
-        Kinematics {
-            rr,
-            l,
-            theta,
-            q: rr.transpose() * q,
-            qi: qg.map(|v| rr.transpose() * v),
-        }
+        Kinematics { rr, l, theta, q: rr.transpose() * q, qi: qg.map(|v| rr.transpose() * v) }
     }
 
     fn lt(&self, ctx: &ElementContext) -> f64 {
@@ -204,13 +190,7 @@ impl CorotationalBeam {
     }
 
     /// Force, and the tangent if `k` is given, in global components.
-    fn evaluate(
-        &self,
-        ctx: &ElementContext,
-        nodes: &[NodeState],
-        f: &mut [f64],
-        k: Option<&mut [f64]>,
-    ) {
+    fn evaluate(&self, ctx: &ElementContext, nodes: &[NodeState], f: &mut [f64], k: Option<&mut [f64]>) {
         let kin = self.kinematics(nodes);
         let loc = self.local(ctx, &kin);
         let gt = frame_spin(&kin);
@@ -218,10 +198,7 @@ impl CorotationalBeam {
         let tinv = kin.theta.map(|t| so3::tangent_inv(&t));
 
         // f_l = B_aᵀ f_a: [N, m1, m2] with mi = T_s⁻ᵀ(θ̄i) m̄i.
-        let mbar = [
-            loc.f.fixed_rows::<3>(1).into_owned(),
-            loc.f.fixed_rows::<3>(4).into_owned(),
-        ];
+        let mbar = [loc.f.fixed_rows::<3>(1).into_owned(), loc.f.fixed_rows::<3>(4).into_owned()];
         let m = [tinv[0].transpose() * mbar[0], tinv[1].transpose() * mbar[1]];
         let mut fl = SVector::<f64, 7>::zeros();
         fl[0] = loc.f[0];

@@ -24,11 +24,7 @@ pub struct NodeState {
 impl NodeState {
     /// A node at rest in its reference configuration.
     pub fn at_rest(x0: Vector3<f64>) -> Self {
-        Self {
-            x0,
-            x: x0,
-            rotation: Matrix3::identity(),
-        }
+        Self { x0, x: x0, rotation: Matrix3::identity() }
     }
 }
 

@@ -27,15 +27,9 @@ pub enum ElementError {
 impl fmt::Display for ElementError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            Self::InvalidValue {
-                kind,
-                parameter,
-                value,
-                expected,
-            } => write!(
-                f,
-                "{kind} element: `{parameter}` = {value} is invalid, expected {expected}"
-            ),
+            Self::InvalidValue { kind, parameter, value, expected } => {
+                write!(f, "{kind} element: `{parameter}` = {value} is invalid, expected {expected}")
+            }
             Self::ParallelReference { sine } => write!(
                 f,
                 "beam element: the reference vector is parallel to the element axis \
@@ -48,20 +42,11 @@ impl fmt::Display for ElementError {
 impl std::error::Error for ElementError {}
 
 /// Checks that `value` is finite and > 0.
-pub(crate) fn positive(
-    kind: &'static str,
-    parameter: &'static str,
-    value: f64,
-) -> Result<f64, ElementError> {
+pub(crate) fn positive(kind: &'static str, parameter: &'static str, value: f64) -> Result<f64, ElementError> {
     if value.is_finite() && value > 0.0 {
         Ok(value)
     } else {
-        Err(ElementError::InvalidValue {
-            kind,
-            parameter,
-            value,
-            expected: "a finite value > 0",
-        })
+        Err(ElementError::InvalidValue { kind, parameter, value, expected: "a finite value > 0" })
     }
 }
 
@@ -74,29 +59,15 @@ pub(crate) fn non_negative(
     if value.is_finite() && value >= 0.0 {
         Ok(value)
     } else {
-        Err(ElementError::InvalidValue {
-            kind,
-            parameter,
-            value,
-            expected: "a finite value ≥ 0",
-        })
+        Err(ElementError::InvalidValue { kind, parameter, value, expected: "a finite value ≥ 0" })
     }
 }
 
 /// Checks that `value` is finite.
-pub(crate) fn finite(
-    kind: &'static str,
-    parameter: &'static str,
-    value: f64,
-) -> Result<f64, ElementError> {
+pub(crate) fn finite(kind: &'static str, parameter: &'static str, value: f64) -> Result<f64, ElementError> {
     if value.is_finite() {
         Ok(value)
     } else {
-        Err(ElementError::InvalidValue {
-            kind,
-            parameter,
-            value,
-            expected: "a finite value",
-        })
+        Err(ElementError::InvalidValue { kind, parameter, value, expected: "a finite value" })
     }
 }

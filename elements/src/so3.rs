@@ -30,21 +30,14 @@ pub fn hat(v: &Vector3<f64>) -> Matrix3<f64> {
 /// The vee map, inverse of [`skew`]: the axial vector of the skew-symmetric
 /// part of `m`, `vee(m) = axial((m − mᵀ)/2)`.
 pub fn vee(m: &Matrix3<f64>) -> Vector3<f64> {
-    Vector3::new(
-        0.5 * (m[(2, 1)] - m[(1, 2)]),
-        0.5 * (m[(0, 2)] - m[(2, 0)]),
-        0.5 * (m[(1, 0)] - m[(0, 1)]),
-    )
+    Vector3::new(0.5 * (m[(2, 1)] - m[(1, 2)]), 0.5 * (m[(0, 2)] - m[(2, 0)]), 0.5 * (m[(1, 0)] - m[(0, 1)]))
 }
 
 /// Coefficients `sin t / t` and `(1 − cos t)/t²` of Rodrigues' formula.
 fn rodrigues_coefficients(t: f64) -> (f64, f64) {
     if t < 1e-4 {
         let t2 = t * t;
-        (
-            1.0 - t2 / 6.0 * (1.0 - t2 / 20.0),
-            0.5 - t2 / 24.0 * (1.0 - t2 / 30.0),
-        )
+        (1.0 - t2 / 6.0 * (1.0 - t2 / 20.0), 0.5 - t2 / 24.0 * (1.0 - t2 / 30.0))
     } else {
         let s = (0.5 * t).sin() / (0.5 * t);
         (t.sin() / t, 0.5 * s * s)
@@ -155,8 +148,7 @@ pub fn tangent_inv_transpose_derivative(theta: &Vector3<f64>, m: &Vector3<f64>) 
     let w = skew(theta);
     let ww_m = w * (w * m);
     skew(m) * -0.5
-        + (Matrix3::identity() * theta.dot(m) + theta * m.transpose() - m * theta.transpose() * 2.0)
-            * eta
+        + (Matrix3::identity() * theta.dot(m) + theta * m.transpose() - m * theta.transpose() * 2.0) * eta
         + ww_m * theta.transpose() * mu
 }
 
@@ -168,39 +160,19 @@ pub fn to_quaternion(r: &Matrix3<f64>) -> [f64; 4] {
     let mut q = if tr >= d[0] && tr >= d[1] && tr >= d[2] {
         let w = 0.5 * (1.0 + tr).sqrt();
         let f = 0.25 / w;
-        [
-            w,
-            (r[(2, 1)] - r[(1, 2)]) * f,
-            (r[(0, 2)] - r[(2, 0)]) * f,
-            (r[(1, 0)] - r[(0, 1)]) * f,
-        ]
+        [w, (r[(2, 1)] - r[(1, 2)]) * f, (r[(0, 2)] - r[(2, 0)]) * f, (r[(1, 0)] - r[(0, 1)]) * f]
     } else if d[0] >= d[1] && d[0] >= d[2] {
         let x = 0.5 * (1.0 + 2.0 * d[0] - tr).sqrt();
         let f = 0.25 / x;
-        [
-            (r[(2, 1)] - r[(1, 2)]) * f,
-            x,
-            (r[(0, 1)] + r[(1, 0)]) * f,
-            (r[(0, 2)] + r[(2, 0)]) * f,
-        ]
+        [(r[(2, 1)] - r[(1, 2)]) * f, x, (r[(0, 1)] + r[(1, 0)]) * f, (r[(0, 2)] + r[(2, 0)]) * f]
     } else if d[1] >= d[2] {
         let y = 0.5 * (1.0 + 2.0 * d[1] - tr).sqrt();
         let f = 0.25 / y;
-        [
-            (r[(0, 2)] - r[(2, 0)]) * f,
-            (r[(0, 1)] + r[(1, 0)]) * f,
-            y,
-            (r[(1, 2)] + r[(2, 1)]) * f,
-        ]
+        [(r[(0, 2)] - r[(2, 0)]) * f, (r[(0, 1)] + r[(1, 0)]) * f, y, (r[(1, 2)] + r[(2, 1)]) * f]
     } else {
         let z = 0.5 * (1.0 + 2.0 * d[2] - tr).sqrt();
         let f = 0.25 / z;
-        [
-            (r[(1, 0)] - r[(0, 1)]) * f,
-            (r[(0, 2)] + r[(2, 0)]) * f,
-            (r[(1, 2)] + r[(2, 1)]) * f,
-            z,
-        ]
+        [(r[(1, 0)] - r[(0, 1)]) * f, (r[(0, 2)] + r[(2, 0)]) * f, (r[(1, 2)] + r[(2, 1)]) * f, z]
     };
     let n = q.iter().map(|c| c * c).sum::<f64>().sqrt();
     let sign = if q[0] < 0.0 { -1.0 } else { 1.0 };

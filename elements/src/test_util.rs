@@ -15,10 +15,7 @@ impl Lcg {
 
     /// Uniform in [0, 1).
     pub fn uniform(&mut self) -> f64 {
-        self.0 = self
-            .0
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
+        self.0 = self.0.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
         (self.0 >> 11) as f64 / (1u64 << 53) as f64
     }
 
@@ -52,14 +49,7 @@ impl Lcg {
 
 /// Applies a rigid motion `x ↦ q x + c`, `R ↦ q R` to every node.
 pub fn rigid_motion(nodes: &[NodeState], q: &Matrix3<f64>, c: &Vector3<f64>) -> Vec<NodeState> {
-    nodes
-        .iter()
-        .map(|n| NodeState {
-            x0: n.x0,
-            x: q * n.x + c,
-            rotation: q * n.rotation,
-        })
-        .collect()
+    nodes.iter().map(|n| NodeState { x0: n.x0, x: q * n.x + c, rotation: q * n.rotation }).collect()
 }
 
 /// Perturbs DOF `dof` of `nodes` by `h`: additive for translations,

@@ -61,39 +61,19 @@ impl Truss {
         positive(kind, "ea", section.ea)?;
         non_negative(kind, "mass_per_length", section.mass_per_length)?;
         finite(kind, "thermal_expansion", section.thermal_expansion)?;
-        Ok(Self {
-            nodes,
-            unstretched_length,
-            section,
-            tension_only,
-        })
+        Ok(Self { nodes, unstretched_length, section, tension_only })
     }
 
     fn state(&self, ctx: &ElementContext, nodes: &[NodeState]) -> TrussState {
         let d = nodes[1].x - nodes[0].x;
         let l = d.norm();
-        let lt = self.unstretched_length
-            * (1.0 + self.section.thermal_expansion * ctx.temperature_change);
+        let lt = self.unstretched_length * (1.0 + self.section.thermal_expansion * ctx.temperature_change);
         let active = !(self.tension_only && l <= lt);
-        let force = if active {
-            self.section.ea * (l - lt) / lt
-        } else {
-            0.0
-        };
+        let force = if active { self.section.ea * (l - lt) / lt } else { 0.0 };
         // A compressed link of zero length has no direction: NaN makes the
         // assembler report a non-finite state instead of a silent answer.
-        let n = if l > 0.0 {
-            d / l
-        } else {
-            Vector3::repeat(f64::NAN)
-        };
-        TrussState {
-            n,
-            l,
-            lt,
-            force,
-            active,
-        }
+        let n = if l > 0.0 { d / l } else { Vector3::repeat(f64::NAN) };
+        TrussState { n, l, lt, force, active }
     }
 
     /// Nodal force vector `[−N n, 0, N n, 0]` (N), 12 entries.
@@ -103,13 +83,7 @@ impl Truss {
     }
 
     /// Force and consistent tangent (row-major 12 × 12, N/m).
-    pub(crate) fn tangent(
-        &self,
-        ctx: &ElementContext,
-        nodes: &[NodeState],
-        f: &mut [f64],
-        k: &mut [f64],
-    ) {
+    pub(crate) fn tangent(&self, ctx: &ElementContext, nodes: &[NodeState], f: &mut [f64], k: &mut [f64]) {
         let s = self.state(ctx, nodes);
         write_force(&s, f);
         k[..144].fill(0.0);
@@ -140,11 +114,7 @@ impl Truss {
     /// strain, negative for a slack cable even though its force is zero).
     pub(crate) fn output(&self, ctx: &ElementContext, nodes: &[NodeState]) -> ElementOutput {
         let s = self.state(ctx, nodes);
-        ElementOutput {
-            axial_force: s.force,
-            axial_strain: (s.l - s.lt) / s.lt,
-            ..ElementOutput::default()
-        }
+        ElementOutput { axial_force: s.force, axial_strain: (s.l - s.lt) / s.lt, ..ElementOutput::default() }
     }
 }
 

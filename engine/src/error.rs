@@ -54,4 +54,11 @@ pub enum GlazeError {
         /// What went wrong.
         message: String,
     },
+    /// An analysis stage failed on a valid model (an eigen solve that did
+    /// not converge, an unstable static state).
+    #[error("{message}")]
+    Analysis {
+        /// What went wrong and what to try.
+        message: String,
+    },
 }

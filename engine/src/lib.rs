@@ -8,6 +8,7 @@
 
 #![deny(missing_docs)]
 
+pub mod aero_loads;
 pub mod analysis;
 pub mod error;
 pub mod formfinding;

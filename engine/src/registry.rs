@@ -123,10 +123,7 @@ impl ElementRegistry {
 
     /// The kind called `name`.
     pub fn get(&self, name: &str) -> Option<&dyn ConductorElementKind> {
-        self.kinds
-            .iter()
-            .find(|k| k.name() == name)
-            .map(|k| k.as_ref())
+        self.kinds.iter().find(|k| k.name() == name).map(|k| k.as_ref())
     }
 
     /// Names of all kinds, in registration order.

@@ -1,12 +1,13 @@
 //! The validated description of a section: built only by
 //! [`crate::input::load`], so every value in it has passed its checks.
 
-use glaze_aero::RadialIce;
+use glaze_aero::{CoefficientTable, MeanWind, RadialIce};
 use nalgebra::Vector3;
 use std::path::PathBuf;
+use std::sync::Arc;
 
 /// A conductor type, SI units.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug)]
 pub struct Conductor {
     /// Name in the input.
     pub name: String,
@@ -26,6 +27,8 @@ pub struct Conductor {
     pub rated_strength: f64,
     /// Mass polar moment of inertia per length, in kg·m.
     pub polar_inertia_per_length: f64,
+    /// Aerodynamic coefficients of the bare section.
+    pub aero_table: Arc<CoefficientTable>,
 }
 
 /// A fixed attachment point.
@@ -62,7 +65,7 @@ pub struct SpanSpec {
 }
 
 /// Static load case.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug)]
 pub struct LoadCase {
     /// Name shown in reports.
     pub name: String,
@@ -72,6 +75,32 @@ pub struct LoadCase {
     pub ice: Option<RadialIce>,
     /// Gravitational acceleration, in m/s².
     pub gravity: f64,
+    /// Mean wind.
+    pub wind: Option<WindSpec>,
+    /// Aerodynamic coefficients of the iced section (with `ice`).
+    pub iced_aero_table: Option<Arc<CoefficientTable>>,
+}
+
+/// Mean wind of a load case and how the sections see it.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct WindSpec {
+    /// The wind field.
+    pub wind: MeanWind,
+    /// Whether the section twist enters the angle of attack.
+    pub include_twist: bool,
+    /// Characteristic radius of the twist-rate term, in m.
+    pub characteristic_radius: f64,
+}
+
+/// Galloping-onset screening settings.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ScreeningSpec {
+    /// Mean wind speeds at the reference height, ascending, in m/s.
+    pub wind_speeds: Vec<f64>,
+    /// Structural damping ratio.
+    pub structural_damping: f64,
+    /// Number of modes.
+    pub modes: usize,
 }
 
 /// Nonlinear solver settings.
@@ -112,4 +141,6 @@ pub struct SectionSpec {
     pub load_case: LoadCase,
     /// Solver settings.
     pub solver: SolverSpec,
+    /// Screening settings, when given.
+    pub screening: Option<ScreeningSpec>,
 }

@@ -48,20 +48,13 @@ impl ModelSummary {
                 let c = &spec.conductors[s.conductor];
                 let l0 = m.stringing.unstretched_length;
                 SpanLine {
-                    supports: [
-                        spec.supports[s.from].name.clone(),
-                        spec.supports[s.to].name.clone(),
-                    ],
+                    supports: [spec.supports[s.from].name.clone(), spec.supports[s.to].name.clone()],
                     conductor: c.name.clone(),
                     horizontal_length: m.horizontal_length,
                     height_difference: m.height_difference,
                     target: s.target,
                     conductor_mass: c.mass_per_length * l0,
-                    ice_mass: spec
-                        .load_case
-                        .ice
-                        .map_or(0.0, |i| i.mass_per_length(c.diameter))
-                        * l0,
+                    ice_mass: spec.load_case.ice.map_or(0.0, |i| i.mass_per_length(c.diameter)) * l0,
                 }
             })
             .collect();

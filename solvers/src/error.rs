@@ -95,8 +95,25 @@ pub enum SolverError {
     },
     /// [`LinearSolver::solve_in_place`](crate::LinearSolver::solve_in_place) was
     /// called without a successful factorisation.
-    #[error("linear solve requested without a valid factorisation (the last factor failed or none was computed)")]
+    #[error(
+        "linear solve requested without a valid factorisation (the last factor failed or none was computed)"
+    )]
     NotFactored,
+    /// The eigen solver did not converge the wanted eigenpairs within the
+    /// allowed restarts.
+    #[error(
+        "the eigen solver found {found} of the {wanted} wanted modes after {restarts} restarts; \
+         allow more restarts or a larger subspace, loosen the tolerance, or move the shift \
+         closer to the wanted frequencies"
+    )]
+    EigenNotConverged {
+        /// Eigenpairs accepted (true residual within the tolerance).
+        found: usize,
+        /// Eigenpairs requested (`count`).
+        wanted: usize,
+        /// Thick restarts performed.
+        restarts: usize,
+    },
     /// faer reported a failure that is not a property of the matrix (for
     /// example an allocation failure).
     #[error("sparse linear algebra failure in faer: {0}")]
@@ -130,9 +147,7 @@ pub struct EvalError {
 impl EvalError {
     /// An evaluation error with this message.
     pub fn new(message: impl Into<String>) -> Self {
-        Self {
-            message: message.into(),
-        }
+        Self { message: message.into() }
     }
 }
 
@@ -148,26 +163,15 @@ mod tests {
             last: Box::new(SolverError::Singular { pivot: Some(7) }),
         };
         let s = e.to_string();
-        assert!(
-            s.contains("near equation 7") && s.contains("λ = 0.5"),
-            "{s}"
-        );
+        assert!(s.contains("near equation 7") && s.contains("λ = 0.5"), "{s}");
     }
 
     #[test]
     fn messages_name_the_data() {
-        let e = SolverError::Diverged {
-            lambda: 0.25,
-            iterations: 25,
-            residual: 1.5e-3,
-            worst_dof: 42,
-        };
+        let e = SolverError::Diverged { lambda: 0.25, iterations: 25, residual: 1.5e-3, worst_dof: 42 };
         let s = e.to_string();
         assert!(s.contains("λ = 0.25") && s.contains("25") && s.contains("equation 42"));
-        let e = SolverError::NonFinite {
-            lambda: f64::NAN,
-            dof: 3,
-        };
+        let e = SolverError::NonFinite { lambda: f64::NAN, dof: 3 };
         assert!(!e.to_string().contains("NaN,"));
     }
 }

@@ -42,6 +42,7 @@
 // maps) by the same position; index loops mirror the CSC algorithms.
 #![allow(clippy::needless_range_loop)]
 
+mod eigen;
 mod error;
 mod linear;
 mod load_stepping;
@@ -50,6 +51,7 @@ mod sparse;
 #[cfg(test)]
 mod test_util;
 
+pub use eigen::{dense_shift_invert, lanczos_shift_invert, EigenPairs, EigenSettings};
 pub use error::{EvalError, SolverError};
 pub use linear::{FactorStats, Factorisation, LinearSolver, SparseDirect};
 pub use load_stepping::{solve_load_path, LoadPathReport, LoadStepSettings};

@@ -28,12 +28,7 @@ pub struct LoadStepSettings {
 
 impl Default for LoadStepSettings {
     fn default() -> Self {
-        Self {
-            initial_step: 0.25,
-            min_step: 1e-4,
-            max_step: 1.0,
-            growth: 1.5,
-        }
+        Self { initial_step: 0.25, min_step: 1e-4, max_step: 1.0, growth: 1.5 }
     }
 }
 
@@ -48,29 +43,15 @@ impl LoadStepSettings {
     /// # Errors
     /// [`SolverError::InvalidSettings`] naming the first bad field.
     pub fn validate(&self) -> Result<(), SolverError> {
-        let bad = |name, value, expected| {
-            Err(SolverError::InvalidSettings {
-                name,
-                value,
-                expected,
-            })
-        };
+        let bad = |name, value, expected| Err(SolverError::InvalidSettings { name, value, expected });
         if !(self.min_step > 0.0 && self.min_step <= 1.0) {
             return bad("min_step", self.min_step, "a load fraction in (0, 1]");
         }
         if !(self.max_step >= self.min_step && self.max_step <= 1.0) {
-            return bad(
-                "max_step",
-                self.max_step,
-                "a load fraction in [min_step, 1]",
-            );
+            return bad("max_step", self.max_step, "a load fraction in [min_step, 1]");
         }
         if !(self.initial_step >= self.min_step && self.initial_step <= self.max_step) {
-            return bad(
-                "initial_step",
-                self.initial_step,
-                "a load fraction in [min_step, max_step]",
-            );
+            return bad("initial_step", self.initial_step, "a load fraction in [min_step, max_step]");
         }
         if !(self.growth >= 1.0 && self.growth.is_finite()) {
             return bad("growth", self.growth, "a finite factor >= 1");
@@ -137,12 +118,7 @@ pub fn solve_load_path(
                 report.steps += 1;
                 report.final_residual = r.residual_norm;
                 sys.save_state();
-                tracing::info!(
-                    lambda,
-                    iterations = r.iterations,
-                    step,
-                    "load step converged"
-                );
+                tracing::info!(lambda, iterations = r.iterations, step, "load step converged");
                 if r.iterations <= LoadStepSettings::EASY_ITERATIONS && !just_cut {
                     step = (step * steps.growth).min(steps.max_step);
                 }
@@ -155,11 +131,7 @@ pub fn solve_load_path(
                 just_cut = true;
                 tracing::warn!(lambda, target, next_step = step, error = %e, "load step failed, cutting back");
                 if step < steps.min_step {
-                    return Err(SolverError::StepTooSmall {
-                        lambda,
-                        step,
-                        last: Box::new(e),
-                    });
+                    return Err(SolverError::StepTooSmall { lambda, step, last: Box::new(e) });
                 }
             }
             Err(e) => return Err(e),
@@ -188,10 +160,7 @@ mod tests {
     use crate::SparseDirect;
 
     fn hardening(p: f64) -> Springs {
-        Springs::new(
-            [Law::Cubic { k: 1e3, c: 5e4 }, Law::Cubic { k: 2e3, c: 1e5 }],
-            p,
-        )
+        Springs::new([Law::Cubic { k: 1e3, c: 5e4 }, Law::Cubic { k: 2e3, c: 1e5 }], p)
     }
 
     fn assert_at_exact(sys: &Springs, lambda: f64) {
@@ -212,13 +181,9 @@ mod tests {
     fn easy_path_grows_the_step_and_reuses_the_analysis() {
         let mut sys = hardening(1.0); // P = 1 N: nearly linear
         let mut solver = SparseDirect::new(sys.pattern());
-        let rep = solve_load_path(
-            &mut sys,
-            &mut solver,
-            &NewtonSettings::default(),
-            &LoadStepSettings::default(),
-        )
-        .unwrap();
+        let rep =
+            solve_load_path(&mut sys, &mut solver, &NewtonSettings::default(), &LoadStepSettings::default())
+                .unwrap();
         // 0.25, then ×1.5 = 0.375 (λ = 0.625), then 0.5625 clipped to λ = 1.
         assert_eq!((rep.steps, rep.cutbacks), (3, 0));
         assert_eq!(rep.factor_stats.symbolic, 1);
@@ -235,12 +200,8 @@ mod tests {
         // 0.3 m table; the converged e1(P) ≈ 0.185 m is inside it.
         sys.e_max = Some(0.3);
         let mut solver = SparseDirect::new(sys.pattern());
-        let steps = LoadStepSettings {
-            initial_step: 1.0,
-            ..LoadStepSettings::default()
-        };
-        let rep =
-            solve_load_path(&mut sys, &mut solver, &NewtonSettings::default(), &steps).unwrap();
+        let steps = LoadStepSettings { initial_step: 1.0, ..LoadStepSettings::default() };
+        let rep = solve_load_path(&mut sys, &mut solver, &NewtonSettings::default(), &steps).unwrap();
         assert!(rep.cutbacks >= 1, "{rep:?}");
         assert_eq!(sys.restores, rep.cutbacks);
         assert!(rep.steps >= 2);
@@ -252,47 +213,25 @@ mod tests {
         let mut sys = hardening(500.0);
         let mut solver = SparseDirect::new(sys.pattern());
         // The full step needs 8 iterations from rest; allow 4.
-        let newton = NewtonSettings {
-            max_iterations: 4,
-            ..NewtonSettings::default()
-        };
-        let steps = LoadStepSettings {
-            initial_step: 1.0,
-            ..LoadStepSettings::default()
-        };
+        let newton = NewtonSettings { max_iterations: 4, ..NewtonSettings::default() };
+        let steps = LoadStepSettings { initial_step: 1.0, ..LoadStepSettings::default() };
         let rep = solve_load_path(&mut sys, &mut solver, &newton, &steps).unwrap();
         assert!(rep.cutbacks >= 1, "{rep:?}");
         assert_eq!(sys.restores, rep.cutbacks);
         assert_at_exact(&sys, 1.0);
-        assert_eq!(
-            rep.factor_stats.symbolic, 1,
-            "one analysis for the whole path"
-        );
+        assert_eq!(rep.factor_stats.symbolic, 1, "one analysis for the whole path");
     }
 
     #[test]
     fn load_beyond_capacity_gives_step_too_small_near_the_limit() {
         // Softening springs with force limit 400 N under P = 500 N: no
         // equilibrium beyond λ* = 400 / 500 = 0.8.
-        let laws = [
-            Law::Tanh {
-                f_max: 400.0,
-                e0: 0.1,
-            },
-            Law::Tanh {
-                f_max: 600.0,
-                e0: 0.05,
-            },
-        ];
+        let laws = [Law::Tanh { f_max: 400.0, e0: 0.1 }, Law::Tanh { f_max: 600.0, e0: 0.05 }];
         let mut sys = Springs::new(laws, 500.0);
         let mut solver = SparseDirect::new(sys.pattern());
-        let err = solve_load_path(
-            &mut sys,
-            &mut solver,
-            &NewtonSettings::default(),
-            &LoadStepSettings::default(),
-        )
-        .unwrap_err();
+        let err =
+            solve_load_path(&mut sys, &mut solver, &NewtonSettings::default(), &LoadStepSettings::default())
+                .unwrap_err();
         match &err {
             SolverError::StepTooSmall { lambda, step, last } => {
                 assert!(*lambda < 0.8 && *lambda > 0.79, "stalled at λ = {lambda}");
@@ -300,11 +239,7 @@ mod tests {
                 assert!(last.is_recoverable(), "{last}");
                 // Left at the last converged state.
                 let exact = sys.exact(*lambda);
-                assert!(
-                    (sys.x[0] - exact[0]).abs() <= 1e-6 * exact[0],
-                    "{:?} vs {exact:?}",
-                    sys.x
-                );
+                assert!((sys.x[0] - exact[0]).abs() <= 1e-6 * exact[0], "{:?} vs {exact:?}", sys.x);
             }
             other => panic!("expected StepTooSmall, got {other}"),
         }
@@ -316,34 +251,10 @@ mod tests {
         let mut sys = hardening(500.0);
         let mut solver = SparseDirect::new(sys.pattern());
         for (steps, name) in [
-            (
-                LoadStepSettings {
-                    min_step: 0.0,
-                    ..Default::default()
-                },
-                "min_step",
-            ),
-            (
-                LoadStepSettings {
-                    max_step: 2.0,
-                    ..Default::default()
-                },
-                "max_step",
-            ),
-            (
-                LoadStepSettings {
-                    initial_step: 1e-5,
-                    ..Default::default()
-                },
-                "initial_step",
-            ),
-            (
-                LoadStepSettings {
-                    growth: 0.5,
-                    ..Default::default()
-                },
-                "growth",
-            ),
+            (LoadStepSettings { min_step: 0.0, ..Default::default() }, "min_step"),
+            (LoadStepSettings { max_step: 2.0, ..Default::default() }, "max_step"),
+            (LoadStepSettings { initial_step: 1e-5, ..Default::default() }, "initial_step"),
+            (LoadStepSettings { growth: 0.5, ..Default::default() }, "growth"),
         ] {
             match solve_load_path(&mut sys, &mut solver, &NewtonSettings::default(), &steps) {
                 Err(SolverError::InvalidSettings { name: got, .. }) => assert_eq!(got, name),

@@ -77,26 +77,12 @@ impl NewtonSettings {
     /// # Errors
     /// [`SolverError::InvalidSettings`] naming the first bad field.
     pub fn validate(&self) -> Result<(), SolverError> {
-        let bad = |name, value, expected| {
-            Err(SolverError::InvalidSettings {
-                name,
-                value,
-                expected,
-            })
-        };
+        let bad = |name, value, expected| Err(SolverError::InvalidSettings { name, value, expected });
         if !(self.residual_tolerance >= 0.0 && self.residual_tolerance.is_finite()) {
-            return bad(
-                "residual_tolerance",
-                self.residual_tolerance,
-                "a finite number >= 0",
-            );
+            return bad("residual_tolerance", self.residual_tolerance, "a finite number >= 0");
         }
         if !(self.increment_tolerance >= 0.0 && self.increment_tolerance.is_finite()) {
-            return bad(
-                "increment_tolerance",
-                self.increment_tolerance,
-                "a finite number >= 0",
-            );
+            return bad("increment_tolerance", self.increment_tolerance, "a finite number >= 0");
         }
         if let Some(cap) = self.max_step_length {
             if !(cap > 0.0 && cap.is_finite()) {
@@ -160,11 +146,7 @@ fn iterate(
     s.validate()?;
     let n = sys.dim();
     let nnz = sys.pattern().nnz();
-    assert_eq!(
-        sys.pattern().dim(),
-        n,
-        "pattern dimension must equal the system dimension"
-    );
+    assert_eq!(sys.pattern().dim(), n, "pattern dimension must equal the system dimension");
     let mut r = vec![0.0; n];
     let mut k = vec![0.0; nnz];
     let mut dx = vec![0.0; n];
@@ -176,10 +158,7 @@ fn iterate(
     loop {
         *iterations = iter;
         sys.evaluate(lambda, &mut r, Some(&mut k))
-            .map_err(|e| SolverError::Evaluation {
-                lambda,
-                message: e.message,
-            })?;
+            .map_err(|e| SolverError::Evaluation { lambda, message: e.message })?;
         if let Some(dof) = r.iter().position(|v| !v.is_finite()) {
             return Err(SolverError::NonFinite { lambda, dof });
         }
@@ -193,28 +172,12 @@ fn iterate(
         }
         let rel = norm2(&r) / scale;
         let moved_norm = norm_inf(&moved);
-        tracing::trace!(
-            lambda,
-            iter,
-            relative_residual = rel,
-            increment = last_increment,
-            "Newton"
-        );
+        tracing::trace!(lambda, iter, relative_residual = rel, increment = last_increment, "Newton");
         let residual_ok = rel <= s.residual_tolerance;
-        let increment_ok =
-            last_was_full && last_increment <= s.increment_tolerance * moved_norm.max(1.0);
+        let increment_ok = last_was_full && last_increment <= s.increment_tolerance * moved_norm.max(1.0);
         if residual_ok || increment_ok {
-            tracing::debug!(
-                lambda,
-                iterations = iter,
-                relative_residual = rel,
-                "Newton converged"
-            );
-            return Ok(NewtonReport {
-                iterations: iter,
-                residual_norm: rel,
-                increment_norm: last_increment,
-            });
+            tracing::debug!(lambda, iterations = iter, relative_residual = rel, "Newton converged");
+            return Ok(NewtonReport { iterations: iter, residual_norm: rel, increment_norm: last_increment });
         }
         if iter >= s.max_iterations {
             return Err(SolverError::Diverged {
@@ -225,18 +188,13 @@ fn iterate(
             });
         }
         if let Some(e) = k.iter().position(|v| !v.is_finite()) {
-            return Err(SolverError::NonFinite {
-                lambda,
-                dof: sys.pattern().row_idx()[e],
-            });
+            return Err(SolverError::NonFinite { lambda, dof: sys.pattern().row_idx()[e] });
         }
         solver.factor(&k).map_err(|e| with_lambda(e, lambda))?;
         for (d, ri) in dx.iter_mut().zip(&r) {
             *d = -ri;
         }
-        solver
-            .solve_in_place(&mut dx)
-            .map_err(|e| with_lambda(e, lambda))?;
+        solver.solve_in_place(&mut dx).map_err(|e| with_lambda(e, lambda))?;
         let mut len = norm_inf(&dx);
         last_was_full = true;
         if let Some(cap) = s.max_step_length {
@@ -294,18 +252,11 @@ mod tests {
     use crate::{Factorisation, SparseDirect};
 
     fn hardening() -> Springs {
-        Springs::new(
-            [Law::Cubic { k: 1e3, c: 5e4 }, Law::Cubic { k: 2e3, c: 1e5 }],
-            500.0,
-        )
+        Springs::new([Law::Cubic { k: 1e3, c: 5e4 }, Law::Cubic { k: 2e3, c: 1e5 }], 500.0)
     }
 
     fn tight() -> NewtonSettings {
-        NewtonSettings {
-            residual_tolerance: 1e-13,
-            increment_tolerance: 0.0,
-            ..NewtonSettings::default()
-        }
+        NewtonSettings { residual_tolerance: 1e-13, increment_tolerance: 0.0, ..NewtonSettings::default() }
     }
 
     #[test]
@@ -316,20 +267,10 @@ mod tests {
         let exact = sys.exact(1.0);
         // Closed form (Cardano) for two Duffing springs in series carrying P.
         for i in 0..2 {
-            assert!(
-                (sys.x[i] - exact[i]).abs() <= 1e-12 * exact[1],
-                "x{i} = {} vs {}",
-                sys.x[i],
-                exact[i]
-            );
+            assert!((sys.x[i] - exact[i]).abs() <= 1e-12 * exact[1], "x{i} = {} vs {}", sys.x[i], exact[i]);
         }
         assert!(rep.residual_norm <= 1e-13);
-        assert!(
-            rep.iterations <= 10,
-            "{} iterations, history {:?}",
-            rep.iterations,
-            sys.history
-        );
+        assert!(rep.iterations <= 10, "{} iterations, history {:?}", rep.iterations, sys.history);
         assert_eq!(solver.last_factorisation(), Some(Factorisation::Cholesky));
         assert_eq!(solver.stats().symbolic, 1);
         assert_eq!(solver.stats().numeric_cholesky, rep.iterations);
@@ -340,11 +281,7 @@ mod tests {
         let m = h.len();
         assert!(m >= 3, "history {:?}", sys.history);
         let p = (h[m - 1] / h[m - 2]).ln() / (h[m - 2] / h[m - 3]).ln();
-        assert!(
-            p >= 1.8,
-            "convergence order {p:.2}, history {:?}",
-            sys.history
-        );
+        assert!(p >= 1.8, "convergence order {p:.2}, history {:?}", sys.history);
     }
 
     #[test]
@@ -361,10 +298,7 @@ mod tests {
     fn step_cap_limits_every_correction_and_still_converges() {
         let mut sys = hardening();
         let mut solver = SparseDirect::new(sys.pattern());
-        let s = NewtonSettings {
-            max_step_length: Some(0.05),
-            ..tight()
-        };
+        let s = NewtonSettings { max_step_length: Some(0.05), ..tight() };
         let mut last = sys.x;
         let rep = newton_solve(&mut sys, 1.0, &mut solver, &s).unwrap();
         let exact = sys.exact(1.0);
@@ -374,10 +308,7 @@ mod tests {
         assert!(rep.increment_norm <= 0.05);
         // Re-run from rest, watching each correction.
         let mut sys = hardening();
-        let s = NewtonSettings {
-            max_iterations: 1,
-            ..s
-        };
+        let s = NewtonSettings { max_iterations: 1, ..s };
         for _ in 0..5 {
             let _ = newton_solve(&mut sys, 1.0, &mut solver, &s);
             let step = (sys.x[0] - last[0]).abs().max((sys.x[1] - last[1]).abs());
@@ -390,17 +321,9 @@ mod tests {
     fn iteration_limit_gives_diverged_with_data() {
         let mut sys = hardening();
         let mut solver = SparseDirect::new(sys.pattern());
-        let s = NewtonSettings {
-            max_iterations: 2,
-            ..tight()
-        };
+        let s = NewtonSettings { max_iterations: 2, ..tight() };
         match newton_solve(&mut sys, 1.0, &mut solver, &s) {
-            Err(SolverError::Diverged {
-                lambda,
-                iterations,
-                residual,
-                worst_dof,
-            }) => {
+            Err(SolverError::Diverged { lambda, iterations, residual, worst_dof }) => {
                 assert_eq!((lambda, iterations), (1.0, 2));
                 assert!(residual > 1e-13 && worst_dof < 2);
             }
@@ -421,16 +344,10 @@ mod tests {
             }
             other => panic!("expected Evaluation, got {other:?}"),
         }
-        let bad = NewtonSettings {
-            residual_tolerance: f64::NAN,
-            ..NewtonSettings::default()
-        };
+        let bad = NewtonSettings { residual_tolerance: f64::NAN, ..NewtonSettings::default() };
         assert!(matches!(
             newton_solve(&mut sys, 1.0, &mut solver, &bad),
-            Err(SolverError::InvalidSettings {
-                name: "residual_tolerance",
-                ..
-            })
+            Err(SolverError::InvalidSettings { name: "residual_tolerance", .. })
         ));
     }
 }

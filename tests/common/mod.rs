@@ -11,8 +11,8 @@
 
 use glaze_elements::{so3, Element, ElementContext, NodeState};
 use glaze_solvers::{
-    solve_load_path, Assembler, EvalError, LinearSolver, LoadPathReport, LoadStepSettings,
-    NewtonSettings, NonlinearSystem, SparseDirect, SparsityPattern,
+    solve_load_path, Assembler, EvalError, LinearSolver, LoadPathReport, LoadStepSettings, NewtonSettings,
+    NonlinearSystem, SparseDirect, SparsityPattern,
 };
 use nalgebra::Vector3;
 
@@ -79,11 +79,7 @@ impl StaticProblem {
         let groups: Vec<Vec<Option<usize>>> = elements
             .iter()
             .map(|e| {
-                e.nodes()
-                    .iter()
-                    .flat_map(|&node| (0..6).map(move |k| 6 * node + k))
-                    .map(|d| eq[d])
-                    .collect()
+                e.nodes().iter().flat_map(|&node| (0..6).map(move |k| 6 * node + k)).map(|d| eq[d]).collect()
             })
             .collect();
         let pattern = SparsityPattern::from_dof_groups(count, groups.iter().map(|g| g.as_slice()));
@@ -129,10 +125,7 @@ impl StaticProblem {
             increment_tolerance: 1e-12,
             ..NewtonSettings::default()
         };
-        let steps = LoadStepSettings {
-            initial_step,
-            ..LoadStepSettings::default()
-        };
+        let steps = LoadStepSettings { initial_step, ..LoadStepSettings::default() };
         let mut solver = SparseDirect::new(&self.pattern);
         let report = solve_load_path(self, &mut solver as &mut dyn LinearSolver, &newton, &steps);
         match report {
@@ -176,9 +169,7 @@ impl NonlinearSystem for StaticProblem {
                 None => e.internal_force(&self.ctx, &states, &mut f),
             }
             if f.iter().any(|x| !x.is_finite()) {
-                return Err(EvalError::new(format!(
-                    "element {g} returned a non-finite force"
-                )));
+                return Err(EvalError::new(format!("element {g} returned a non-finite force")));
             }
             self.assembler.add_vector(g, &f, residual);
             internal += f.iter().map(|x| x * x).sum::<f64>();
@@ -244,14 +235,9 @@ pub fn beam_chain(
         .enumerate()
         .map(|(i, w)| {
             let l = (w[1] - w[0]).norm();
-            let beam = glaze_elements::CorotationalBeam::new(
-                [i, i + 1],
-                [w[0], w[1]],
-                l,
-                reference_y,
-                section,
-            )
-            .expect("valid beam");
+            let beam =
+                glaze_elements::CorotationalBeam::new([i, i + 1], [w[0], w[1]], l, reference_y, section)
+                    .expect("valid beam");
             Box::new(beam) as Box<dyn Element>
         })
         .collect()

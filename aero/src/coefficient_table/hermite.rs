@@ -75,11 +75,7 @@ pub(super) fn pchip_derivatives(x: &[f64], y: &[f64], periodic: bool) -> Vec<f64
     let n = x.len();
     debug_assert!(n >= 2 && y.len() == n);
     let h: Vec<f64> = x.windows(2).map(|w| w[1] - w[0]).collect();
-    let m: Vec<f64> = y
-        .windows(2)
-        .zip(&h)
-        .map(|(w, h)| (w[1] - w[0]) / h)
-        .collect();
+    let m: Vec<f64> = y.windows(2).zip(&h).map(|(w, h)| (w[1] - w[0]) / h).collect();
     if n == 2 {
         return vec![m[0], m[0]];
     }
@@ -164,10 +160,7 @@ mod tests {
         for k in 0..x.len() - 1 {
             let m = (y[k + 1] - y[k]) / (x[k + 1] - x[k]);
             for dk in [d[k], d[k + 1]] {
-                assert!(
-                    (0.0..=3.0 * m * (1.0 + 1e-15)).contains(&dk),
-                    "d={dk} m={m}"
-                );
+                assert!((0.0..=3.0 * m * (1.0 + 1e-15)).contains(&dk), "d={dk} m={m}");
             }
         }
     }
@@ -178,23 +171,13 @@ mod tests {
         // C² spline overshoots (the example shape of Fritsch & Carlson 1980).
         let x = [0.0, 1.0, 2.0, 2.5, 3.0, 4.5, 5.0, 6.0, 8.0];
         let y = [0.0, 0.0, 0.1, 3.0, 3.0, 3.05, 9.0, 9.0, 9.5];
-        for (xs, ys) in [
-            (x.to_vec(), y.to_vec()),
-            (x.to_vec(), y.iter().map(|v| -v).collect()),
-        ] {
+        for (xs, ys) in [(x.to_vec(), y.to_vec()), (x.to_vec(), y.iter().map(|v| -v).collect())] {
             let d = pchip_derivatives(&xs, &ys, false);
             let pts = sample(&xs, &ys, &d, 400);
             let increasing = ys[ys.len() - 1] > ys[0];
             for w in pts.windows(2) {
                 let step = w[1].1 - w[0].1;
-                assert!(
-                    if increasing {
-                        step >= -1e-15
-                    } else {
-                        step <= 1e-15
-                    },
-                    "{w:?}"
-                );
+                assert!(if increasing { step >= -1e-15 } else { step <= 1e-15 }, "{w:?}");
             }
             for (xv, v) in pts {
                 let i = locate(&xs, xv);

@@ -75,8 +75,7 @@ pub(super) fn parse(text: &str, path: &Path) -> Result<RawTable, TableError> {
                 found: fields.len(),
             });
         }
-        raw.alpha_deg
-            .push(number(fields[columns.alpha], "alpha_deg", line, path)?);
+        raw.alpha_deg.push(number(fields[columns.alpha], "alpha_deg", line, path)?);
         raw.values[0].push(number(fields[columns.cd], "cd", line, path)?);
         raw.values[1].push(number(fields[columns.cl], "cl", line, path)?);
         let cm = match columns.cm {
@@ -87,10 +86,7 @@ pub(super) fn parse(text: &str, path: &Path) -> Result<RawTable, TableError> {
         raw.lines.push(line);
     }
     if header.is_none() {
-        return Err(TableError::NoHeader {
-            path: path.to_path_buf(),
-            line: last_line,
-        });
+        return Err(TableError::NoHeader { path: path.to_path_buf(), line: last_line });
     }
     raw.diameter = diameter;
     Ok(raw)
@@ -99,9 +95,7 @@ pub(super) fn parse(text: &str, path: &Path) -> Result<RawTable, TableError> {
 /// Trim blanks and one pair of surrounding double quotes.
 fn clean(field: &str) -> &str {
     let f = field.trim();
-    f.strip_prefix('"')
-        .and_then(|f| f.strip_suffix('"'))
-        .map_or(f, str::trim)
+    f.strip_prefix('"').and_then(|f| f.strip_suffix('"')).map_or(f, str::trim)
 }
 
 /// Read a `reference_diameter = value` comment; other comments are ignored.
@@ -160,11 +154,7 @@ fn read_header(fields: &[&str], line: usize, path: &Path) -> Result<Columns, Tab
     let names: Vec<String> = fields.iter().map(|f| f.to_ascii_lowercase()).collect();
     for (i, name) in names.iter().enumerate() {
         if !name.is_empty() && names[..i].contains(name) {
-            return Err(TableError::DuplicateColumn {
-                path: path.to_path_buf(),
-                line,
-                column: name.clone(),
-            });
+            return Err(TableError::DuplicateColumn { path: path.to_path_buf(), line, column: name.clone() });
         }
     }
     let find = |column: &str| names.iter().position(|n| n == column);

@@ -16,10 +16,7 @@ fn cubic() -> TableOptions {
 }
 
 fn linear() -> TableOptions {
-    TableOptions {
-        interpolation: Interpolation::Linear,
-        ..TableOptions::default()
-    }
+    TableOptions { interpolation: Interpolation::Linear, ..TableOptions::default() }
 }
 
 fn read(text: &str, options: &TableOptions) -> Result<CoefficientTable, TableError> {
@@ -27,9 +24,7 @@ fn read(text: &str, options: &TableOptions) -> Result<CoefficientTable, TableErr
 }
 
 fn example(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("../examples/aero")
-        .join(name)
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../examples/aero").join(name)
 }
 
 /// A non-periodic table with uneven spacing and mixed shapes.
@@ -123,9 +118,7 @@ fn monotone_cubic_keeps_monotone_data_monotone_without_overshoot() {
         let c = t.evaluate(deg.to_radians()).unwrap();
         assert!(c.cd >= prev.cd, "cd not monotone at {deg}°");
         assert!(c.cl <= prev.cl, "cl not monotone at {deg}°");
-        let i = data
-            .partition_point(|r| r[0] <= deg)
-            .clamp(1, data.len() - 1);
+        let i = data.partition_point(|r| r[0] <= deg).clamp(1, data.len() - 1);
         let (lo, hi) = (data[i - 1], data[i]);
         assert!(c.cd >= lo[1] && c.cd <= hi[1], "cd overshoot at {deg}°");
         assert!(c.cl <= lo[2] && c.cl >= hi[2], "cl overshoot at {deg}°");
@@ -153,10 +146,7 @@ fn assert_derivative_matches_differences(t: &CoefficientTable, lo_deg: f64, hi_d
             ((p.cl - m.cl) / (2.0 * h), d.cl),
             ((p.cm - m.cm) / (2.0 * h), d.cm),
         ] {
-            assert!(
-                (fd - an).abs() <= 1e-7 * an.abs().max(1.0),
-                "at {a}: fd {fd} vs {an}"
-            );
+            assert!((fd - an).abs() <= 1e-7 * an.abs().max(1.0), "at {a}: fd {fd} vs {an}");
         }
     }
 }
@@ -218,10 +208,7 @@ fn non_periodic_table_rejects_angles_outside_its_range() {
     }
     let e = t.derivative(f64::NAN).unwrap_err();
     assert!(matches!(e, TableError::NonFiniteAngle { .. }), "{e}");
-    let e = read(PERIODIC, &cubic())
-        .unwrap()
-        .evaluate(f64::INFINITY)
-        .unwrap_err();
+    let e = read(PERIODIC, &cubic()).unwrap().evaluate(f64::INFINITY).unwrap_err();
     assert!(matches!(e, TableError::NonFiniteAngle { .. }), "{e}");
 }
 
@@ -237,10 +224,7 @@ fn header_is_flexible_and_moment_is_optional() {
 0.1, 10, z, 1.0
 0.0, 20, w, 0.9
 ";
-    let options = TableOptions {
-        reference_diameter: Some(0.04),
-        ..cubic()
-    };
+    let options = TableOptions { reference_diameter: Some(0.04), ..cubic() };
     let t = read(text, &options).unwrap();
     assert!(!t.has_moment());
     assert_eq!(t.reference_diameter(), 0.04);
@@ -250,10 +234,7 @@ fn header_is_flexible_and_moment_is_optional() {
 
 #[test]
 fn caller_diameter_must_agree_with_the_file() {
-    let same = TableOptions {
-        reference_diameter: Some(0.03),
-        ..cubic()
-    };
+    let same = TableOptions { reference_diameter: Some(0.03), ..cubic() };
     assert_eq!(read(UNEVEN, &same).unwrap().reference_diameter(), 0.03);
     assert_eq!(read(UNEVEN, &cubic()).unwrap().reference_diameter(), 0.03);
 }
@@ -275,11 +256,7 @@ fn unreadable_file_is_named() {
     let path = PathBuf::from("/nonexistent/glaze/table.csv");
     let e = CoefficientTable::from_csv_path(&path, &cubic()).unwrap_err();
     assert!(matches!(e, TableError::Unreadable { .. }));
-    assert!(
-        e.to_string()
-            .starts_with("/nonexistent/glaze/table.csv: cannot read"),
-        "{e}"
-    );
+    assert!(e.to_string().starts_with("/nonexistent/glaze/table.csv: cannot read"), "{e}");
     assert_eq!(e.line(), None);
 }
 
@@ -288,10 +265,7 @@ fn missing_header_and_columns() {
     let e = error_at("# only\n# comments\n", &cubic(), 2);
     assert!(matches!(e, TableError::NoHeader { .. }));
     let e = error_at(&format!("{D}alpha_deg,cd,cm\n0,1,0\n"), &cubic(), 2);
-    assert!(
-        matches!(&e, TableError::MissingColumn { column, .. } if column == "cl"),
-        "{e}"
-    );
+    assert!(matches!(&e, TableError::MissingColumn { column, .. } if column == "cl"), "{e}");
     assert!(e.to_string().contains("`cl`"));
     let e = error_at(&format!("{D}cd,cl\n1,0\n"), &cubic(), 2);
     assert!(matches!(&e, TableError::MissingColumn { column, .. } if column == "alpha_deg"));
@@ -303,17 +277,7 @@ fn missing_header_and_columns() {
 fn bad_rows() {
     let head = format!("{D}alpha_deg,cd,cl\n0,1,0\n");
     let e = error_at(&format!("{head}10,1\n"), &cubic(), 4);
-    assert!(
-        matches!(
-            e,
-            TableError::FieldCount {
-                expected: 3,
-                found: 2,
-                ..
-            }
-        ),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::FieldCount { expected: 3, found: 2, .. }), "{e}");
     let e = error_at(&format!("{head}10,1.0,abc\n"), &cubic(), 4);
     assert!(matches!(&e, TableError::NotANumber { column, text, .. }
         if column == "cl" && text == "abc"));
@@ -330,157 +294,68 @@ fn bad_rows() {
 fn too_few_points() {
     let three = format!("{D}alpha_deg,cd,cl\n0,1,0\n10,1,0\n20,1,0\n");
     let e = error_at(&three, &cubic(), 2);
-    assert!(
-        matches!(
-            e,
-            TableError::TooFewPoints {
-                found: 3,
-                required: 4,
-                ..
-            }
-        ),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::TooFewPoints { found: 3, required: 4, .. }), "{e}");
     assert!(read(&three, &linear()).is_ok());
     let one = format!("{D}alpha_deg,cd,cl\n0,1,0\n");
     let e = error_at(&one, &linear(), 2);
-    assert!(
-        matches!(
-            e,
-            TableError::TooFewPoints {
-                found: 1,
-                required: 2,
-                ..
-            }
-        ),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::TooFewPoints { found: 1, required: 2, .. }), "{e}");
 }
 
 #[test]
 fn angles_must_increase_without_repeats_or_gaps() {
     let head = format!("{D}alpha_deg,cd,cl\n0,1,0\n10,1,0\n");
     let e = error_at(&format!("{head}10,1,0\n20,1,0\n"), &cubic(), 5);
-    assert!(
-        matches!(
-            e,
-            TableError::DuplicateAlpha {
-                previous_line: 4,
-                ..
-            }
-        ),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::DuplicateAlpha { previous_line: 4, .. }), "{e}");
     let e = error_at(&format!("{head}5,1,0\n20,1,0\n"), &cubic(), 5);
-    assert!(
-        matches!(
-            e,
-            TableError::NotIncreasing {
-                previous_line: 4,
-                ..
-            }
-        ),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::NotIncreasing { previous_line: 4, .. }), "{e}");
     let e = error_at(&format!("{head}20,1,0\n51,1,0\n"), &cubic(), 6);
-    assert!(
-        matches!(
-            e,
-            TableError::Gap {
-                previous_line: 5,
-                ..
-            }
-        ),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::Gap { previous_line: 5, .. }), "{e}");
     // Exactly 30° is allowed by default; the limit is configurable.
     assert!(read(&format!("{head}20,1,0\n50,1,0\n"), &cubic()).is_ok());
-    let tight = TableOptions {
-        max_spacing: 5f64.to_radians(),
-        ..cubic()
-    };
+    let tight = TableOptions { max_spacing: 5f64.to_radians(), ..cubic() };
     let e = error_at(&format!("{head}20,1,0\n25,1,0\n"), &tight, 4);
     assert!(matches!(e, TableError::Gap { .. }), "{e}");
-    let loose = TableOptions {
-        max_spacing: f64::INFINITY,
-        ..cubic()
-    };
+    let loose = TableOptions { max_spacing: f64::INFINITY, ..cubic() };
     assert!(read(&format!("{head}20,1,0\n150,1,0\n"), &loose).is_ok());
 }
 
 #[test]
 fn span_over_360_or_mismatched_period_is_rejected() {
-    let loose = TableOptions {
-        max_spacing: f64::INFINITY,
-        ..cubic()
-    };
+    let loose = TableOptions { max_spacing: f64::INFINITY, ..cubic() };
     let base = format!("{D}alpha_deg,cd,cl\n-180,1,0\n-60,1,0.1\n60,1,0.2\n");
     let e = error_at(&format!("{base}181,1,0\n"), &loose, 6);
-    assert!(
-        matches!(e, TableError::SpanExceedsPeriod { first_line: 3, .. }),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::SpanExceedsPeriod { first_line: 3, .. }), "{e}");
     let e = error_at(&format!("{base}180,1,0.01\n"), &loose, 6);
     assert!(
         matches!(&e, TableError::PeriodMismatch { column, first_line: 3, .. }
         if column == "cl"),
         "{e}"
     );
-    assert!(read(&format!("{base}180,1,0\n"), &loose)
-        .unwrap()
-        .is_periodic());
+    assert!(read(&format!("{base}180,1,0\n"), &loose).unwrap().is_periodic());
 }
 
 #[test]
 fn reference_diameter_errors() {
     let body = "alpha_deg,cd,cl\n0,1,0\n10,1,0\n20,1,0\n30,1,0\n";
     let e = error_at(body, &cubic(), 1);
-    assert!(
-        matches!(e, TableError::MissingReferenceDiameter { .. }),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::MissingReferenceDiameter { .. }), "{e}");
     let e = error_at(&format!("#\n# reference_diameter = 0\n{body}"), &cubic(), 2);
-    assert!(
-        matches!(e, TableError::InvalidReferenceDiameter { .. }),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::InvalidReferenceDiameter { .. }), "{e}");
     let e = error_at(&format!("# reference_diameter = -0.1\n{body}"), &cubic(), 1);
-    assert!(
-        matches!(e, TableError::InvalidReferenceDiameter { .. }),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::InvalidReferenceDiameter { .. }), "{e}");
     let e = error_at(&format!("# reference_diameter = 3 cm\n{body}"), &cubic(), 1);
     assert!(matches!(&e, TableError::NotANumber { column, .. } if column == "reference_diameter"));
     let twice = format!("{D}# reference_diameter = 0.04\n{body}");
     let e = error_at(&twice, &cubic(), 2);
-    assert!(
-        matches!(e, TableError::ConflictingReferenceDiameter { .. }),
-        "{e}"
-    );
-    let other = TableOptions {
-        reference_diameter: Some(0.05),
-        ..cubic()
-    };
+    assert!(matches!(e, TableError::ConflictingReferenceDiameter { .. }), "{e}");
+    let other = TableOptions { reference_diameter: Some(0.05), ..cubic() };
     let e = error_at(&format!("{D}{body}"), &other, 1);
-    assert!(
-        matches!(e, TableError::ConflictingReferenceDiameter { .. }),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::ConflictingReferenceDiameter { .. }), "{e}");
     // A bad caller value has no line, and says where it came from.
-    let bad = TableOptions {
-        reference_diameter: Some(-1.0),
-        ..cubic()
-    };
+    let bad = TableOptions { reference_diameter: Some(-1.0), ..cubic() };
     let e = read(body, &bad).unwrap_err();
-    assert!(matches!(
-        e,
-        TableError::InvalidReferenceDiameter { line: None, .. }
-    ));
-    assert!(
-        e.to_string()
-            .starts_with("inline.csv (value given by the caller)"),
-        "{e}"
-    );
+    assert!(matches!(e, TableError::InvalidReferenceDiameter { line: None, .. }));
+    assert!(e.to_string().starts_with("inline.csv (value given by the caller)"), "{e}");
 }
 
 // ---- the shipped example tables ----
@@ -501,18 +376,12 @@ fn crescent_example_is_den_hartog_unstable_near_20_to_50_degrees() {
         let t = CoefficientTable::from_csv_path(example("crescent_ice.csv"), &options).unwrap();
         assert!(t.is_periodic() && t.has_moment());
         assert_eq!(t.reference_diameter(), 0.0531);
-        let unstable: Vec<f64> = den_hartog_samples(&t)
-            .into_iter()
-            .filter(|&(_, g)| g < 0.0)
-            .map(|(deg, _)| deg)
-            .collect();
+        let unstable: Vec<f64> =
+            den_hartog_samples(&t).into_iter().filter(|&(_, g)| g < 0.0).map(|(deg, _)| deg).collect();
         assert!(!unstable.is_empty(), "{options:?}");
         // make_tables.py: the exact curves are unstable for 18.4°…50.1°.
         let (lo, hi) = (unstable[0], unstable[unstable.len() - 1]);
-        assert!(
-            lo > 14.0 && lo < 23.0 && hi > 45.0 && hi < 55.0,
-            "{lo}..{hi}"
-        );
+        assert!(lo > 14.0 && lo < 23.0 && hi > 45.0 && hi < 55.0, "{lo}..{hi}");
         assert!(t.den_hartog(35f64.to_radians()).unwrap() < -0.3);
     }
 }

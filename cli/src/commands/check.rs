@@ -29,11 +29,7 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
         s.supports
     );
     let ice = spec.load_case.ice.map_or("no ice".to_string(), |i| {
-        format!(
-            "radial ice {:.1} mm at {:.0} kg/m³",
-            i.thickness * 1e3,
-            i.density
-        )
+        format!("radial ice {:.1} mm at {:.0} kg/m³", i.thickness * 1e3, i.density)
     });
     println!(
         "stringing at {:.1} °C; load case `{}`: {:.1} °C, {ice}",
@@ -42,15 +38,7 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
     println!();
     println!(
         "{:>4}  {:<10} {:<10} {:<12} {:>9} {:>8}  {:<22} {:>12} {:>10}",
-        "span",
-        "from",
-        "to",
-        "conductor",
-        "length m",
-        "Δh m",
-        "stringing target",
-        "conductor kg",
-        "ice kg"
+        "span", "from", "to", "conductor", "length m", "Δh m", "stringing target", "conductor kg", "ice kg"
     );
     for (i, l) in s.spans.iter().enumerate() {
         let target = match l.target {
@@ -73,4 +61,3 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
     }
     Ok(())
 }
-

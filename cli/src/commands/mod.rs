@@ -9,7 +9,8 @@ pub use static_cmd::run_static;
 use glaze_engine::{GlazeError, InputErrorKind};
 
 /// The caution every report carries.
-pub const CAUTION: &str = "Caution: glaze results support, and never replace, the judgement of a licensed engineer \
+pub const CAUTION: &str =
+    "Caution: glaze results support, and never replace, the judgement of a licensed engineer \
 and the clearances and load cases of the local code.";
 
 /// Exit code for an error (see the crate docs).

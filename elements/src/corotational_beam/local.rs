@@ -93,11 +93,5 @@ pub(super) fn response(
         k[(i, j)] += 2.0 * kb;
         k[(j, i)] += 2.0 * kb;
     }
-    LocalResponse {
-        f,
-        k,
-        axial_force: n,
-        torque,
-        strain: eps,
-    }
+    LocalResponse { f, k, axial_force: n, torque, strain: eps }
 }

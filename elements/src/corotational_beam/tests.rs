@@ -22,11 +22,7 @@ fn section(bowing: bool, coupling: bool) -> BeamSection {
         polar_inertia_per_length: 0.02,
         thermal_expansion: 2e-3,
         bowing,
-        axial_torsion_coupling: if coupling {
-            0.4 * (400.0_f64 * 1.5).sqrt()
-        } else {
-            0.0
-        },
+        axial_torsion_coupling: if coupling { 0.4 * (400.0_f64 * 1.5).sqrt() } else { 0.0 },
     }
 }
 
@@ -49,9 +45,7 @@ fn random_case(rng: &mut Lcg, s: BeamSection, rot: f64) -> (CorotationalBeam, Ve
 }
 
 fn ctx() -> ElementContext {
-    ElementContext {
-        temperature_change: 7.0,
-    }
+    ElementContext { temperature_change: 7.0 }
 }
 
 fn force(beam: &CorotationalBeam, ctx: &ElementContext, nodes: &[NodeState]) -> Vec<f64> {
@@ -73,10 +67,7 @@ fn tangent_matches_central_differences() {
                 let (beam, nodes) = random_case(&mut rng, section(bowing, coupling), rot);
                 let len = beam.reference_length();
                 let err = tangent_error(&beam, &ctx(), &nodes, 1e-6, len);
-                assert!(
-                    err < 1e-6,
-                    "bowing {bowing} coupling {coupling} rot {rot}: rel. error {err:e}"
-                );
+                assert!(err < 1e-6, "bowing {bowing} coupling {coupling} rot {rot}: rel. error {err:e}");
             }
         }
     }
@@ -96,11 +87,7 @@ fn rigid_motion_of_a_stressed_state_rotates_the_force() {
             for blk in 0..4 {
                 let a = Vector3::from_column_slice(&f[3 * blk..3 * blk + 3]);
                 let b = Vector3::from_column_slice(&g[3 * blk..3 * blk + 3]);
-                let w = if blk % 2 == 0 {
-                    beam.reference_length()
-                } else {
-                    1.0
-                };
+                let w = if blk % 2 == 0 { beam.reference_length() } else { 1.0 };
                 assert!((q * a - b).norm() * w < 1e-11 * scale);
             }
             // The tangent rotates the same way: K' = diag(Q) K diag(Q)ᵀ.
@@ -110,8 +97,7 @@ fn rigid_motion_of_a_stressed_state_rotates_the_force() {
             let big = k1.iter().fold(0.0_f64, |m, x| m.max(x.abs()));
             for bi in 0..4 {
                 for bj in 0..4 {
-                    let blk =
-                        |k: &[f64]| Matrix3::from_fn(|i, j| k[(3 * bi + i) * 12 + 3 * bj + j]);
+                    let blk = |k: &[f64]| Matrix3::from_fn(|i, j| k[(3 * bi + i) * 12 + 3 * bj + j]);
                     let d = q * blk(&k1) * q.transpose() - blk(&k2);
                     assert!(d.amax() < 1e-10 * big);
                 }
@@ -140,11 +126,7 @@ fn rigid_motion_of_the_reference_state_gives_zero_force() {
 
 /// Newton on the free node of a one-element cantilever under a tip force,
 /// with this element's own tangent; returns the converged state.
-fn cantilever_equilibrium(
-    beam: &CorotationalBeam,
-    x: [Vector3<f64>; 2],
-    p: Vector3<f64>,
-) -> Vec<NodeState> {
+fn cantilever_equilibrium(beam: &CorotationalBeam, x: [Vector3<f64>; 2], p: Vector3<f64>) -> Vec<NodeState> {
     let mut nodes = vec![NodeState::at_rest(x[0]), NodeState::at_rest(x[1])];
     let (mut f, mut k) = (vec![0.0; 12], vec![0.0; 144]);
     for step in 1..=10 {
@@ -199,9 +181,7 @@ fn tangent_is_symmetric_at_equilibrium() {
         beam.tangent(&ElementContext::default(), &off, &mut f, &mut k);
         let asym_off = (6..12)
             .flat_map(|i| (6..12).map(move |j| (i, j)))
-            .fold(0.0_f64, |m, (i, j)| {
-                m.max((k[i * 12 + j] - k[j * 12 + i]).abs())
-            });
+            .fold(0.0_f64, |m, (i, j)| m.max((k[i * 12 + j] - k[j * 12 + i]).abs()));
         assert!(asym_off > 1e-6 * big);
     }
 }
@@ -222,9 +202,7 @@ fn section_results_of_simple_states() {
     assert!((o.axial_force - 0.01 * s.ea).abs() < 1e-12 * s.ea);
     assert!(o.torque.abs() < 1e-12 && o.bending_moment_y[0].abs() < 1e-12);
     // Heating to Lt = l makes it stress-free: α ΔT = 0.01.
-    let hot = ElementContext {
-        temperature_change: 0.01 / s.thermal_expansion,
-    };
+    let hot = ElementContext { temperature_change: 0.01 / s.thermal_expansion };
     assert!(beam.output(&hot, &n).axial_force.abs() < 1e-10);
     assert!(norm(&force(&beam, &hot, &n)) < 1e-10);
     // Twist node 2 by φ about the axis: T = GJ φ / L.
@@ -245,8 +223,7 @@ fn section_results_of_simple_states() {
     assert!(o.bending_moment_y[0].abs() < 1e-12 && o.torque.abs() < 1e-12);
     // With bowing, the same state shortens nothing but strains the axis:
     // ε = (1/30)(2φ² + φ² + 2φ²) = φ²/6.
-    let bow =
-        CorotationalBeam::new([3, 8], [x1, x2], len, Vector3::z(), section(true, false)).unwrap();
+    let bow = CorotationalBeam::new([3, 8], [x1, x2], len, Vector3::z(), section(true, false)).unwrap();
     let o = bow.output(&c0, &n);
     assert!((o.axial_strain - phi * phi / 6.0).abs() < 1e-14);
     assert!((o.axial_force - s.ea * phi * phi / 6.0).abs() < 1e-11);
@@ -260,10 +237,7 @@ fn lumped_mass_in_global_axes() {
     let beam = CorotationalBeam::new([0, 1], [x1, x2], 3.0, Vector3::x(), s).unwrap();
     let mut m = vec![0.0; 144];
     beam.lumped_mass(&[NodeState::at_rest(x1), NodeState::at_rest(x2)], &mut m);
-    let total: f64 = [0, 1, 2]
-        .iter()
-        .map(|&i| m[i * 12 + i] + m[(i + 6) * 12 + i + 6])
-        .sum();
+    let total: f64 = [0, 1, 2].iter().map(|&i| m[i * 12 + i] + m[(i + 6) * 12 + i + 6]).sum();
     assert!((total - 3.0 * s.mass_per_length * 3.0).abs() < 1e-12);
     // Axis along Y: polar inertia on θ_y, HRZ μ L³/78 on θ_x and θ_z.
     assert!((m[4 * 12 + 4] - 0.5 * s.polar_inertia_per_length * 3.0).abs() < 1e-14);
@@ -293,14 +267,8 @@ fn constructor_rejects_bad_input() {
         BeamSection { ei_y: -1.0, ..ok },
         BeamSection { ei_z: 0.0, ..ok },
         BeamSection { gj: 0.0, ..ok },
-        BeamSection {
-            mass_per_length: -1.0,
-            ..ok
-        },
-        BeamSection {
-            axial_torsion_coupling: (ok.ea * ok.gj).sqrt(),
-            ..ok
-        },
+        BeamSection { mass_per_length: -1.0, ..ok },
+        BeamSection { axial_torsion_coupling: (ok.ea * ok.gj).sqrt(), ..ok },
     ] {
         let err = new(x2, 1.0, Vector3::y(), bad).unwrap_err();
         assert!(err.to_string().contains("beam element"), "{err}");

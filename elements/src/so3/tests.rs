@@ -29,10 +29,7 @@ fn test_vectors() -> Vec<Vector3<f64>> {
 fn hat_and_vee_are_inverse() {
     let v = Vector3::new(0.3, -1.2, 2.5);
     assert_eq!(vee(&skew(&v)), v);
-    assert_eq!(
-        hat(&v) * Vector3::new(1.0, 2.0, 3.0),
-        v.cross(&Vector3::new(1.0, 2.0, 3.0))
-    );
+    assert_eq!(hat(&v) * Vector3::new(1.0, 2.0, 3.0), v.cross(&Vector3::new(1.0, 2.0, 3.0)));
 }
 
 #[test]
@@ -51,10 +48,7 @@ fn log_of_exp_round_trip() {
     for t in test_vectors() {
         let back = log(&exp(&t));
         let tol = if t.norm() > 3.0 { 1e-9 } else { 1e-14 };
-        assert!(
-            (back - t).norm() <= tol * t.norm().max(1e-300) + 1e-300,
-            "{t:?} -> {back:?}"
-        );
+        assert!((back - t).norm() <= tol * t.norm().max(1e-300) + 1e-300, "{t:?} -> {back:?}");
     }
 }
 
@@ -126,9 +120,8 @@ fn inverse_tangent_derivative_matches_finite_differences() {
         for i in 0..3 {
             let mut e = Vector3::zeros();
             e[i] = h;
-            let fd = (tangent_inv(&(t + e)).transpose() * m
-                - tangent_inv(&(t - e)).transpose() * m)
-                / (2.0 * h);
+            let fd =
+                (tangent_inv(&(t + e)).transpose() * m - tangent_inv(&(t - e)).transpose() * m) / (2.0 * h);
             assert!((fd - d.column(i)).norm() < 1e-8 * m.norm(), "{t:?}");
         }
     }

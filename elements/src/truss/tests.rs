@@ -8,11 +8,7 @@ use crate::test_util::{rigid_motion, tangent_error, Lcg};
 use crate::{Cable, Element, ElementError, Link};
 use std::f64::consts::PI;
 
-const SECTION: TrussSection = TrussSection {
-    ea: 2.0e7,
-    mass_per_length: 1.6,
-    thermal_expansion: 1.9e-5,
-};
+const SECTION: TrussSection = TrussSection { ea: 2.0e7, mass_per_length: 1.6, thermal_expansion: 1.9e-5 };
 
 fn force(e: &dyn Element, ctx: &ElementContext, nodes: &[NodeState]) -> Vec<f64> {
     let mut f = vec![0.0; 12];
@@ -38,18 +34,13 @@ fn random_state(rng: &mut Lcg, l0: f64, strain: f64) -> Vec<NodeState> {
 }
 
 fn kinds(l0: f64) -> [Box<dyn Element>; 2] {
-    [
-        Box::new(Cable::new([0, 1], l0, SECTION).unwrap()),
-        Box::new(Link::new([0, 1], l0, SECTION).unwrap()),
-    ]
+    [Box::new(Cable::new([0, 1], l0, SECTION).unwrap()), Box::new(Link::new([0, 1], l0, SECTION).unwrap())]
 }
 
 #[test]
 fn tangent_matches_central_differences() {
     let mut rng = Lcg::new(41);
-    let ctx = ElementContext {
-        temperature_change: 25.0,
-    };
+    let ctx = ElementContext { temperature_change: 25.0 };
     for _ in 0..50 {
         let l0 = rng.range(1.0, 400.0);
         for strain in [2e-3, 0.3] {
@@ -110,9 +101,7 @@ fn force_law_thermal_strain_and_slack() {
         assert!((Vector3::from_column_slice(&f[6..9]) - dir * o.axial_force).norm() < 1e-6);
         assert!(f[3..6].iter().chain(&f[9..12]).all(|&m| m == 0.0));
         // Heating by ΔT with α ΔT = 1e-3 makes l = Lt stress-free.
-        let hot = ElementContext {
-            temperature_change: 1e-3 / SECTION.thermal_expansion,
-        };
+        let hot = ElementContext { temperature_change: 1e-3 / SECTION.thermal_expansion };
         assert!(e.output(&hot, &at(l0 * 1.001)).axial_force.abs() < 1e-5);
         assert!(!e.uses_rotations());
     }
@@ -126,9 +115,7 @@ fn force_law_thermal_strain_and_slack() {
     assert_eq!(cable.output(&c0, &short).axial_force, 0.0);
     assert!((link.output(&c0, &short).axial_force + SECTION.ea * 0.01).abs() < 1e-6);
     // A cold cable that was slack becomes taut: α ΔT = −2 % shortens Lt.
-    let cold = ElementContext {
-        temperature_change: -0.02 / SECTION.thermal_expansion,
-    };
+    let cold = ElementContext { temperature_change: -0.02 / SECTION.thermal_expansion };
     let n = cable.output(&cold, &short).axial_force;
     assert!((n - SECTION.ea * (0.99 / 0.98 - 1.0)).abs() < 1e-6 * SECTION.ea);
 }
@@ -176,27 +163,12 @@ fn constructors_reject_bad_input() {
         (-1.0, SECTION),
         (f64::INFINITY, SECTION),
         (1.0, TrussSection { ea: 0.0, ..SECTION }),
-        (
-            1.0,
-            TrussSection {
-                mass_per_length: -1.0,
-                ..SECTION
-            },
-        ),
-        (
-            1.0,
-            TrussSection {
-                thermal_expansion: f64::NAN,
-                ..SECTION
-            },
-        ),
+        (1.0, TrussSection { mass_per_length: -1.0, ..SECTION }),
+        (1.0, TrussSection { thermal_expansion: f64::NAN, ..SECTION }),
     ];
     for (l0, s) in bad {
         let e = Cable::new([0, 1], l0, s).unwrap_err();
-        assert!(matches!(
-            e,
-            ElementError::InvalidValue { kind: "cable", .. }
-        ));
+        assert!(matches!(e, ElementError::InvalidValue { kind: "cable", .. }));
         let e = Link::new([0, 1], l0, s).unwrap_err();
         assert!(e.to_string().starts_with("link element"), "{e}");
     }

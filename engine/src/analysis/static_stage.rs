@@ -1,15 +1,13 @@
 //! The static stage: from the stringing state to equilibrium under the
 //! load case, then the per-span summary an engineer reads.
 
-use super::static_system::{Configuration, StaticSystem};
+use super::static_system::{Configuration, LoadPath, StaticSystem};
 use crate::error::{InputError, InputErrorKind};
 use crate::input::Locator;
 use crate::model::{Model, DOF_PER_NODE};
 use crate::spec::SectionSpec;
 use glaze_elements::ElementOutput;
-use glaze_solvers::{
-    solve_load_path, LoadPathReport, LoadStepSettings, NewtonSettings, SparseDirect,
-};
+use glaze_solvers::{solve_load_path, LoadPathReport, LoadStepSettings, NewtonSettings, SparseDirect};
 
 /// Results of one span at static equilibrium.
 #[derive(Clone, Debug, PartialEq)]
@@ -63,16 +61,25 @@ pub fn run_static(spec: &SectionSpec, model: &Model) -> Result<StaticResult, Inp
         min_step: spec.solver.min_load_step,
         ..LoadStepSettings::default()
     };
-    let report = solve_load_path(&mut system, &mut solver, &newton, &steps).map_err(|e| {
+    let not_converged = |stage: &str, key: &str, e: glaze_solvers::SolverError| {
         Locator::new(&spec.file, &spec.source).error(
             InputErrorKind::NotConverged,
-            "load_case",
+            key,
             format!(
-                "the static solve did not converge: {e}. Check that the load case is physical (ice, temperature), \
-                 try more elements per span, a smaller [solver] initial_load_step, or more max_iterations"
+                "the static solve did not converge ({stage}): {e}. Check that the load case is physical \
+                 (ice, temperature, wind), try more elements per span, a smaller [solver] initial_load_step, \
+                 or more max_iterations"
             ),
         )
-    })?;
+    };
+    let mut report = solve_load_path(&mut system, &mut solver, &newton, &steps)
+        .map_err(|e| not_converged("weight, ice and temperature", "load_case", e))?;
+    if model.wind.is_some() {
+        system.path = LoadPath::Wind;
+        let wind = solve_load_path(&mut system, &mut solver, &newton, &steps)
+            .map_err(|e| not_converged("mean wind", "load_case.wind", e))?;
+        report = merge(report, wind);
+    }
 
     let ctx = system.context(1.0);
     let element_output = model
@@ -92,25 +99,17 @@ pub fn run_static(spec: &SectionSpec, model: &Model) -> Result<StaticResult, Inp
         })
         .collect();
     let reactions = system.reactions(1.0);
-    let force_at =
-        |n: usize| -> [f64; 3] { std::array::from_fn(|d| reactions[n * DOF_PER_NODE + d]) };
+    let force_at = |n: usize| -> [f64; 3] { std::array::from_fn(|d| reactions[n * DOF_PER_NODE + d]) };
     let support_force = model.support_nodes.iter().map(|&n| force_at(n)).collect();
     let spans = model
         .spans
         .iter()
         .map(|span| {
             let c = &spec.conductors[span.conductor];
-            let positions: Vec<_> = span
-                .nodes
-                .iter()
-                .map(|&n| system.config.positions[n])
-                .collect();
+            let positions: Vec<_> = span.nodes.iter().map(|&n| system.config.positions[n]).collect();
             let a = positions[0];
             let b = positions[positions.len() - 1];
-            let ends = [
-                force_at(span.nodes[0]),
-                force_at(span.nodes[span.nodes.len() - 1]),
-            ];
+            let ends = [force_at(span.nodes[0]), force_at(span.nodes[span.nodes.len() - 1])];
             let tension = ends.map(|f| (f[0] * f[0] + f[1] * f[1] + f[2] * f[2]).sqrt());
             let horizontal = ends.map(|f| f[0].hypot(f[1]));
             let (sag, sag_position) = sag_of(span.direction, &positions);
@@ -127,13 +126,7 @@ pub fn run_static(spec: &SectionSpec, model: &Model) -> Result<StaticResult, Inp
             }
         })
         .collect();
-    Ok(StaticResult {
-        config: system.config,
-        element_output,
-        support_force,
-        spans,
-        report,
-    })
+    Ok(StaticResult { config: system.config, element_output, support_force, spans, report })
 }
 
 /// Largest vertical distance between the chord and the polyline of
@@ -151,16 +144,17 @@ fn sag_of(direction: nalgebra::Vector3<f64>, positions: &[nalgebra::Vector3<f64>
             (x, a.z + dz * x / l - p.z)
         })
         .collect();
-    let (k, _) = samples
-        .iter()
-        .enumerate()
-        .fold((0, f64::NEG_INFINITY), |best, (i, &(_, d))| {
-            if d > best.1 {
-                (i, d)
-            } else {
-                best
-            }
-        });
+    let (k, _) =
+        samples.iter().enumerate().fold(
+            (0, f64::NEG_INFINITY),
+            |best, (i, &(_, d))| {
+                if d > best.1 {
+                    (i, d)
+                } else {
+                    best
+                }
+            },
+        );
     if k == 0 || k + 1 == samples.len() {
         return (samples[k].1, samples[k].0);
     }
@@ -178,4 +172,24 @@ fn sag_of(direction: nalgebra::Vector3<f64>, positions: &[nalgebra::Vector3<f64>
     let xv = x1 - slope_at_x1 / (2.0 * curvature);
     let yv = y1 + slope_at_x1 * (xv - x1) + curvature * (xv - x1).powi(2);
     (yv, xv)
+}
+
+/// Adds the counts of two load paths.
+fn merge(a: LoadPathReport, b: LoadPathReport) -> LoadPathReport {
+    let (fa, fb) = (&a.factor_stats, &b.factor_stats);
+    LoadPathReport {
+        steps: a.steps + b.steps,
+        cutbacks: a.cutbacks + b.cutbacks,
+        total_iterations: a.total_iterations + b.total_iterations,
+        final_residual: b.final_residual,
+        factor_stats: glaze_solvers::FactorStats {
+            symbolic: fa.symbolic + fb.symbolic,
+            symbolic_cholesky: fa.symbolic_cholesky + fb.symbolic_cholesky,
+            symbolic_lu: fa.symbolic_lu + fb.symbolic_lu,
+            numeric_cholesky: fa.numeric_cholesky + fb.numeric_cholesky,
+            numeric_lu: fa.numeric_lu + fb.numeric_lu,
+            solves: fa.solves + fb.solves,
+            cholesky_failures: fa.cholesky_failures + fb.cholesky_failures,
+        },
+    }
 }

@@ -95,12 +95,7 @@ impl DiscreteChain {
         if let Some(last) = nodes.last_mut() {
             *last = (span.horizontal_length, span.height_difference);
         }
-        Self {
-            horizontal_tension: h,
-            first_vertical: v0,
-            unstretched_length: l0,
-            nodes,
-        }
+        Self { horizontal_tension: h, first_vertical: v0, unstretched_length: l0, nodes }
     }
 }
 
@@ -119,14 +114,10 @@ mod tests {
             axial_stiffness: 2.9e7,
         };
         let cont = Catenary::from_horizontal_tension(span, 25_000.0).unwrap();
-        let e20 = (DiscreteChain::strung(span, 25_000.0, 20)
-            .unwrap()
-            .unstretched_length
+        let e20 = (DiscreteChain::strung(span, 25_000.0, 20).unwrap().unstretched_length
             - cont.unstretched_length)
             .abs();
-        let e40 = (DiscreteChain::strung(span, 25_000.0, 40)
-            .unwrap()
-            .unstretched_length
+        let e40 = (DiscreteChain::strung(span, 25_000.0, 40).unwrap().unstretched_length
             - cont.unstretched_length)
             .abs();
         let ratio = e20 / e40;

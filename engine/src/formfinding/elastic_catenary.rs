@@ -61,19 +61,12 @@ impl Catenary {
     /// Solves for `V0` and `L0` given the horizontal tension `H`.
     pub fn from_horizontal_tension(span: CatenarySpan, h: f64) -> Result<Self, CatenaryError> {
         if !(h > 0.0 && h.is_finite()) {
-            return Err(CatenaryError::Impossible(format!(
-                "horizontal tension must be positive, got {h} N"
-            )));
+            return Err(CatenaryError::Impossible(format!("horizontal tension must be positive, got {h} N")));
         }
-        let (l, dz, w) = (
-            span.horizontal_length,
-            span.height_difference,
-            span.weight_per_length,
-        );
+        let (l, dz, w) = (span.horizontal_length, span.height_difference, span.weight_per_length);
         // Start from the inextensible parabola.
         let chord = (l * l + dz * dz).sqrt();
-        let mut l0 =
-            chord * (1.0 + (w * l).powi(2) / (24.0 * h * h)) / (1.0 + h / span.axial_stiffness);
+        let mut l0 = chord * (1.0 + (w * l).powi(2) / (24.0 * h * h)) / (1.0 + h / span.axial_stiffness);
         let mut v0 = h * dz / l - w * l0 / 2.0;
         for _ in 0..100 {
             let (rx, rz) = Self::end_residual(&span, h, v0, l0);
@@ -122,15 +115,12 @@ impl Catenary {
         // slack, then a bracket in log H.
         let chord = span.horizontal_length.hypot(span.height_difference);
         let slack = (l0 - chord).max(1e-6 * chord);
-        let estimate =
-            span.weight_per_length * (span.horizontal_length.powi(3) / (24.0 * slack)).sqrt();
+        let estimate = span.weight_per_length * (span.horizontal_length.powi(3) / (24.0 * slack)).sqrt();
         let h = bisect_log(estimate, l0, |h| {
             Self::from_horizontal_tension(span, h).map(|c| c.unstretched_length)
         })
         .ok_or_else(|| {
-            CatenaryError::Impossible(format!(
-                "no catenary of unstretched length {l0} m fits this span"
-            ))
+            CatenaryError::Impossible(format!("no catenary of unstretched length {l0} m fits this span"))
         })?;
         Self::from_horizontal_tension(span, h)
     }
@@ -139,28 +129,19 @@ impl Catenary {
     /// distance between the chord and the cable), in m.
     pub fn from_sag(span: CatenarySpan, sag: f64) -> Result<Self, CatenaryError> {
         if !(sag > 0.0 && sag.is_finite()) {
-            return Err(CatenaryError::Impossible(format!(
-                "sag must be positive, got {sag} m"
-            )));
+            return Err(CatenaryError::Impossible(format!("sag must be positive, got {sag} m")));
         }
         let estimate = span.weight_per_length * span.horizontal_length.powi(2) / (8.0 * sag);
-        let h = bisect_log(estimate, sag, |h| {
-            Self::from_horizontal_tension(span, h).map(|c| c.sag())
-        })
-        .ok_or_else(|| {
-            CatenaryError::Impossible(format!("no horizontal tension gives a sag of {sag} m"))
-        })?;
+        let h = bisect_log(estimate, sag, |h| Self::from_horizontal_tension(span, h).map(|c| c.sag()))
+            .ok_or_else(|| {
+                CatenaryError::Impossible(format!("no horizontal tension gives a sag of {sag} m"))
+            })?;
         Self::from_horizontal_tension(span, h)
     }
 
     /// Position `(x, z)` at unstretched arc length `s` from A, in m.
     pub fn position(&self, s: f64) -> (f64, f64) {
-        position(
-            &self.span,
-            self.horizontal_tension,
-            self.vertical_at_start,
-            s,
-        )
+        position(&self.span, self.horizontal_tension, self.vertical_at_start, s)
     }
 
     /// Tension magnitude at unstretched arc length `s`, in N.
@@ -192,11 +173,7 @@ impl Catenary {
 /// Finds `H` with `f(H) = target` for a quantity `f` that decreases with
 /// `H` (sag, unstretched length): bracket around `estimate` in log H, then
 /// bisect to round-off. `None` when no bracket is found.
-fn bisect_log(
-    estimate: f64,
-    target: f64,
-    f: impl Fn(f64) -> Result<f64, CatenaryError>,
-) -> Option<f64> {
+fn bisect_log(estimate: f64, target: f64, f: impl Fn(f64) -> Result<f64, CatenaryError>) -> Option<f64> {
     let (mut lo, mut hi) = (estimate / 2.0, estimate * 2.0);
     let mut widen = 0;
     loop {
@@ -263,8 +240,7 @@ mod tests {
     #[test]
     fn inverse_problems_round_trip() {
         let c = Catenary::from_horizontal_tension(span(40.0), 25_000.0).unwrap();
-        let by_length =
-            Catenary::from_unstretched_length(span(40.0), c.unstretched_length).unwrap();
+        let by_length = Catenary::from_unstretched_length(span(40.0), c.unstretched_length).unwrap();
         assert!((by_length.horizontal_tension / 25_000.0 - 1.0).abs() < 1e-9);
         let by_sag = Catenary::from_sag(span(40.0), c.sag()).unwrap();
         assert!((by_sag.horizontal_tension / 25_000.0 - 1.0).abs() < 1e-9);
@@ -274,17 +250,10 @@ mod tests {
     fn inextensible_level_span_matches_the_classical_catenary() {
         // Inextensible catenary of a level span: sag = (H/w)(cosh(w l / 2H) − 1)
         // (Irvine 1981, §1.2). EA = 1e15 N makes elastic stretch negligible.
-        let sp = CatenarySpan {
-            axial_stiffness: 1e15,
-            ..span(0.0)
-        };
+        let sp = CatenarySpan { axial_stiffness: 1e15, ..span(0.0) };
         let (h, w, l) = (40_000.0, 15.97, 400.0);
         let c = Catenary::from_horizontal_tension(sp, h).unwrap();
         let exact = (h / w) * ((w * l / (2.0 * h)).cosh() - 1.0);
-        assert!(
-            (c.sag() / exact - 1.0).abs() < 1e-9,
-            "{} vs {exact}",
-            c.sag()
-        );
+        assert!((c.sag() / exact - 1.0).abs() < 1e-9, "{} vs {exact}", c.sag());
     }
 }

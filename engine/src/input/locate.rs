@@ -67,11 +67,7 @@ impl std::fmt::Display for KeyPath {
 /// 1-based line number of a byte offset in `text`.
 pub fn line_of(text: &str, offset: usize) -> usize {
     let end = offset.min(text.len());
-    text.as_bytes()[..end]
-        .iter()
-        .filter(|&&b| b == b'\n')
-        .count()
-        + 1
+    text.as_bytes()[..end].iter().filter(|&&b| b == b'\n').count() + 1
 }
 
 /// A parsed document with spans, used only to locate keys.
@@ -93,14 +89,13 @@ impl<'i> SpanIndex<'i> {
         let mut array: Option<&[Spanned<DeValue<'i>>]> = None;
         for step in &path.0 {
             let next: Option<&Spanned<DeValue<'i>>> = match (step, table, array) {
-                (PathStep::Key(k), Some(t), _) => t
-                    .iter()
-                    .find(|(key, _)| key.get_ref().as_ref() == k.as_str())
-                    .map(|(key, v)| {
+                (PathStep::Key(k), Some(t), _) => {
+                    t.iter().find(|(key, _)| key.get_ref().as_ref() == k.as_str()).map(|(key, v)| {
                         // Point at the key itself: its line is where the user wrote it.
                         span = key.span();
                         v
-                    }),
+                    })
+                }
                 (PathStep::Index(i), _, Some(a)) => a.get(*i),
                 _ => None,
             };
@@ -122,8 +117,7 @@ impl<'i> SpanIndex<'i> {
     pub fn path_at(&self, text: &str, offset: usize) -> KeyPath {
         let offset = offset.min(text.len());
         let mut path = KeyPath::root();
-        let mut counts: std::collections::BTreeMap<String, usize> =
-            std::collections::BTreeMap::new();
+        let mut counts: std::collections::BTreeMap<String, usize> = std::collections::BTreeMap::new();
         let mut line_start = 0;
         let mut body_key: Option<String> = None;
         for line in text.split_inclusive('\n') {
@@ -132,28 +126,14 @@ impl<'i> SpanIndex<'i> {
             if line_start > offset {
                 break;
             }
-            if let Some(header) = trimmed
-                .strip_prefix("[[")
-                .and_then(|h| h.strip_suffix("]]"))
-            {
+            if let Some(header) = trimmed.strip_prefix("[[").and_then(|h| h.strip_suffix("]]")) {
                 let n = counts.entry(header.trim().to_string()).or_insert(0);
                 *n += 1;
-                path = KeyPath(
-                    split_dotted(header)
-                        .into_iter()
-                        .map(PathStep::Key)
-                        .collect(),
-                );
+                path = KeyPath(split_dotted(header).into_iter().map(PathStep::Key).collect());
                 path.0.push(PathStep::Index(*n - 1));
                 body_key = None;
-            } else if let Some(header) = trimmed.strip_prefix('[').and_then(|h| h.strip_suffix(']'))
-            {
-                path = KeyPath(
-                    split_dotted(header)
-                        .into_iter()
-                        .map(PathStep::Key)
-                        .collect(),
-                );
+            } else if let Some(header) = trimmed.strip_prefix('[').and_then(|h| h.strip_suffix(']')) {
+                path = KeyPath(split_dotted(header).into_iter().map(PathStep::Key).collect());
                 body_key = None;
             } else if offset < line_end {
                 // The line holding `offset`: its leading key, then an inner
@@ -164,8 +144,7 @@ impl<'i> SpanIndex<'i> {
                     let inner = before.rfind('{').map(|b| &before[b + 1..]);
                     if let Some(inner) = inner {
                         if let Some(eq2) = inner.rfind('=') {
-                            let key_part =
-                                inner[..eq2].rsplit([',', '{']).next().unwrap_or("").trim();
+                            let key_part = inner[..eq2].rsplit([',', '{']).next().unwrap_or("").trim();
                             if !key_part.is_empty() {
                                 body_key = Some(format!("{}.{key_part}", line[..eq].trim()));
                             }
@@ -178,8 +157,7 @@ impl<'i> SpanIndex<'i> {
             line_start = line_end;
         }
         if let Some(key) = body_key {
-            path.0
-                .extend(split_dotted(&key).into_iter().map(PathStep::Key));
+            path.0.extend(split_dotted(&key).into_iter().map(PathStep::Key));
         }
         path
     }
@@ -199,17 +177,15 @@ fn strip_comment(line: &str) -> &str {
 }
 
 fn split_dotted(key: &str) -> Vec<String> {
-    key.split('.')
-        .map(|k| k.trim().trim_matches('"').to_string())
-        .filter(|k| !k.is_empty())
-        .collect()
+    key.split('.').map(|k| k.trim().trim_matches('"').to_string()).filter(|k| !k.is_empty()).collect()
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
 
-    const DOC: &str = "[glaze]\nschema_version = 1\n\n[[spans]]\nfrom = \"A\"\n\n[[spans]]\nfrom = \"B\"\nsag = 12.0\n";
+    const DOC: &str =
+        "[glaze]\nschema_version = 1\n\n[[spans]]\nfrom = \"A\"\n\n[[spans]]\nfrom = \"B\"\nsag = 12.0\n";
 
     #[test]
     fn span_of_array_of_tables_key_gives_its_line() {
@@ -230,10 +206,7 @@ mod tests {
         let inline = "[load_case]\nice = { thickness = \"x\" }\n";
         let index = SpanIndex::new(inline).unwrap();
         let offset = inline.find("\"x\"").unwrap();
-        assert_eq!(
-            index.path_at(inline, offset).to_string(),
-            "load_case.ice.thickness"
-        );
+        assert_eq!(index.path_at(inline, offset).to_string(), "load_case.ice.thickness");
     }
 
     #[test]

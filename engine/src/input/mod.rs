@@ -6,6 +6,8 @@ pub mod locate;
 pub mod schema;
 mod validate;
 
+pub(crate) use validate::round_section;
+
 use crate::error::{InputError, InputErrorKind};
 use crate::registry::ElementRegistry;
 use crate::spec::SectionSpec;
@@ -25,11 +27,7 @@ pub fn load(path: &Path, registry: &ElementRegistry) -> Result<SectionSpec, Inpu
 }
 
 /// Parses and validates input text that came from `path`.
-pub fn load_str(
-    path: &Path,
-    text: &str,
-    registry: &ElementRegistry,
-) -> Result<SectionSpec, InputError> {
+pub fn load_str(path: &Path, text: &str, registry: &ElementRegistry) -> Result<SectionSpec, InputError> {
     let locator = Locator::new(path, text);
     let raw: schema::RawInput = toml::from_str(text).map_err(|e| locator.toml_error(&e))?;
     validate::validate(raw, &locator, registry)
@@ -45,11 +43,7 @@ pub struct Locator<'a> {
 impl<'a> Locator<'a> {
     /// Indexes `text` (read from `path`).
     pub fn new(path: &'a Path, text: &'a str) -> Self {
-        Self {
-            path,
-            text,
-            index: SpanIndex::new(text),
-        }
+        Self { path, text, index: SpanIndex::new(text) }
     }
 
     /// The full input text.
@@ -113,12 +107,6 @@ impl<'a> Locator<'a> {
                 }
             }
         }
-        InputError {
-            file: self.path.to_path_buf(),
-            line,
-            key: key.to_string(),
-            message,
-            kind,
-        }
+        InputError { file: self.path.to_path_buf(), line, key: key.to_string(), message, kind }
     }
 }

@@ -31,6 +31,8 @@ pub struct RawInput {
     /// Nonlinear solver settings (all optional).
     #[serde(default)]
     pub solver: RawSolver,
+    /// Galloping-onset screening (needed by `glaze screen`).
+    pub screening: Option<RawScreening>,
 }
 
 /// `[glaze]`: schema version and a free title.
@@ -65,6 +67,9 @@ pub struct RawConductor {
     /// Mass polar moment of inertia per length, in kg·m; default from a
     /// solid round section, m·D²/8.
     pub polar_inertia_per_length: Option<f64>,
+    /// CSV coefficient table of the bare section (path relative to the
+    /// input file); default: round section, C_D = 1, no lift or moment.
+    pub aero_table: Option<String>,
 }
 
 /// `[[supports]]`: a fixed attachment point.
@@ -127,6 +132,44 @@ pub struct RawLoadCase {
     pub ice: Option<RawIce>,
     /// Gravitational acceleration, in m/s² (default 9.80665, standard gravity).
     pub gravity: Option<f64>,
+    /// Mean wind (none when absent).
+    pub wind: Option<RawWind>,
+}
+
+/// `[load_case.wind]`: steady mean wind.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawWind {
+    /// Mean speed at the reference height, in m/s (the screening sweeps its own speeds).
+    pub speed: f64,
+    /// Direction the wind blows towards, in degrees from +X (90 = along +Y).
+    pub direction: f64,
+    /// Height of `speed` above z = 0, in m (default 10).
+    pub reference_height: Option<f64>,
+    /// `uniform` (default), `power_law` or `logarithmic`.
+    pub profile: Option<String>,
+    /// Power-law exponent (with `profile = "power_law"`).
+    pub exponent: Option<f64>,
+    /// Roughness length, in m (with `profile = "logarithmic"`).
+    pub roughness_length: Option<f64>,
+    /// Air density, in kg/m³ (default 1.225, ISA sea level).
+    pub air_density: Option<f64>,
+    /// Whether the section twist enters the angle of attack (default true).
+    pub include_twist: Option<bool>,
+    /// Characteristic radius of the twist-rate term, in m (default 0: off).
+    pub characteristic_radius: Option<f64>,
+}
+
+/// `[screening]`: galloping-onset screening settings.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawScreening {
+    /// Mean wind speeds to evaluate, strictly increasing, in m/s.
+    pub wind_speeds: Vec<f64>,
+    /// Structural damping ratio of every mode (e.g. 0.005).
+    pub structural_damping: f64,
+    /// Number of lowest modes to screen (default 20).
+    pub modes: Option<usize>,
 }
 
 /// Uniform radial ice.
@@ -137,6 +180,9 @@ pub struct RawIce {
     pub thickness: f64,
     /// Density, in kg/m³ (default 900, glaze ice per IEC 60826).
     pub density: Option<f64>,
+    /// CSV coefficient table of the iced section (path relative to the
+    /// input file); default: round iced section, C_D = 1, no lift or moment.
+    pub aero_table: Option<String>,
 }
 
 /// `[solver]`: Newton and load-stepping settings.

@@ -6,12 +6,38 @@ use super::Locator;
 use crate::error::{InputError, InputErrorKind as K};
 use crate::registry::ElementRegistry;
 use crate::spec::{
-    Conductor, LoadCase, SectionSpec, SolverSpec, SpanSpec, StringingTarget, Support,
+    Conductor, LoadCase, ScreeningSpec, SectionSpec, SolverSpec, SpanSpec, StringingTarget, Support, WindSpec,
 };
 use glaze_aero::ice::GLAZE_ICE_DENSITY;
-use glaze_aero::RadialIce;
+use glaze_aero::{CoefficientTable, MeanWind, RadialIce, TableOptions, WindProfile, ISA_AIR_DENSITY};
 use nalgebra::Vector3;
 use std::collections::BTreeMap;
+use std::sync::Arc;
+
+/// A round section: C_D = 1 at every angle, no lift or moment. The drag
+/// factor 1.0 for stranded conductors is that of IEC 60826 §6.2.6
+/// (common practice).
+pub(crate) fn round_section(diameter: f64) -> Arc<CoefficientTable> {
+    let mut text = String::from("alpha_deg, cd, cl, cm\n");
+    for a in (-180..=180).step_by(30) {
+        text.push_str(&format!("{a}, 1.0, 0.0, 0.0\n"));
+    }
+    let options = TableOptions { reference_diameter: Some(diameter), ..TableOptions::default() };
+    // The text above is a valid table for any positive diameter.
+    Arc::new(
+        CoefficientTable::from_csv_str(&text, "(built-in round section)", &options)
+            .expect("built-in round table"),
+    )
+}
+
+/// Reads a coefficient table named at `key`, relative to the input file.
+fn table_at(loc: &Locator<'_>, key: &str, name: &str) -> Result<Arc<CoefficientTable>, InputError> {
+    let base = loc.path().parent().unwrap_or_else(|| std::path::Path::new("."));
+    let path = base.join(name);
+    CoefficientTable::from_csv_path(&path, &TableOptions::default())
+        .map(Arc::new)
+        .map_err(|e| loc.error(K::InvalidValue, key, format!("aerodynamic table: {e}")))
+}
 
 /// Standard gravity, in m/s² (CGPM 1901, ISO 80000-3).
 pub const STANDARD_GRAVITY: f64 = 9.80665;
@@ -75,27 +101,22 @@ pub(super) fn validate(
             Some(j) => positive(loc, &key("polar_inertia_per_length"), j, "kg·m")?,
             None => mass * diameter * diameter / 8.0,
         };
+        let aero_table = match &c.aero_table {
+            Some(file) => table_at(loc, &key("aero_table"), file)?,
+            None => round_section(diameter),
+        };
         conductor_index.insert(name.clone(), conductors.len());
         conductors.push(Conductor {
             name: name.clone(),
             diameter,
             mass_per_length: mass,
             axial_stiffness: positive(loc, &key("axial_stiffness"), c.axial_stiffness, "N")?,
-            bending_stiffness: positive(
-                loc,
-                &key("bending_stiffness"),
-                c.bending_stiffness,
-                "N·m²",
-            )?,
-            torsional_stiffness: positive(
-                loc,
-                &key("torsional_stiffness"),
-                c.torsional_stiffness,
-                "N·m²",
-            )?,
+            bending_stiffness: positive(loc, &key("bending_stiffness"), c.bending_stiffness, "N·m²")?,
+            torsional_stiffness: positive(loc, &key("torsional_stiffness"), c.torsional_stiffness, "N·m²")?,
             thermal_expansion: alpha,
             rated_strength: positive(loc, &key("rated_strength"), c.rated_strength, "N")?,
             polar_inertia_per_length: polar,
+            aero_table,
         });
     }
     if conductors.is_empty() {
@@ -131,17 +152,10 @@ pub(super) fn validate(
                 "coordinates must be finite numbers in m",
             ));
         }
-        supports.push(Support {
-            name: s.name.clone(),
-            position: Vector3::from(s.position),
-        });
+        supports.push(Support { name: s.name.clone(), position: Vector3::from(s.position) });
     }
     if supports.len() < 2 {
-        return Err(loc.error(
-            K::MissingKey,
-            "supports",
-            "a section needs at least two [[supports]]",
-        ));
+        return Err(loc.error(K::MissingKey, "supports", "a section needs at least two [[supports]]"));
     }
 
     let mut spans = Vec::new();
@@ -153,10 +167,7 @@ pub(super) fn validate(
                 loc.error(
                     K::UnknownName,
                     &key(field),
-                    format!(
-                        "no support named `{name}`; known supports: {}",
-                        known.join(", ")
-                    ),
+                    format!("no support named `{name}`; known supports: {}", known.join(", ")),
                 )
             })
         };
@@ -167,11 +178,7 @@ pub(super) fn validate(
             loc.error(
                 K::UnknownName,
                 &key("conductor"),
-                format!(
-                    "no conductor named `{}`; known conductors: {}",
-                    s.conductor,
-                    known.join(", ")
-                ),
+                format!("no conductor named `{}`; known conductors: {}", s.conductor, known.join(", ")),
             )
         })?;
         let d = supports[to].position - supports[from].position;
@@ -180,7 +187,10 @@ pub(super) fn validate(
             return Err(loc.error(
                 K::InvalidValue,
                 &key("to"),
-                format!("span from `{}` to `{}` has a horizontal length of {horizontal} m; it must be positive", s.from, s.to),
+                format!(
+                    "span from `{}` to `{}` has a horizontal length of {horizontal} m; it must be positive",
+                    s.from, s.to
+                ),
             ));
         }
         let rts = conductors[conductor].rated_strength;
@@ -191,10 +201,7 @@ pub(super) fn validate(
                     return Err(loc.error(
                         K::Impossible,
                         &key("horizontal_tension"),
-                        format!(
-                            "{h} N is not below the rated strength {rts} N of `{}`",
-                            s.conductor
-                        ),
+                        format!("{h} N is not below the rated strength {rts} N of `{}`", s.conductor),
                     ));
                 }
                 StringingTarget::HorizontalTension(h)
@@ -206,12 +213,9 @@ pub(super) fn validate(
                 }
                 StringingTarget::Sag(d)
             }
-            (None, None, Some(c)) => StringingTarget::CatenaryParameter(positive(
-                loc,
-                &key("catenary_parameter"),
-                c,
-                "m",
-            )?),
+            (None, None, Some(c)) => {
+                StringingTarget::CatenaryParameter(positive(loc, &key("catenary_parameter"), c, "m")?)
+            }
             (None, None, None) => {
                 return Err(loc.error(
                     K::MissingKey,
@@ -227,30 +231,17 @@ pub(super) fn validate(
                 ))
             }
         };
-        spans.push(SpanSpec {
-            from,
-            to,
-            conductor,
-            target,
-        });
+        spans.push(SpanSpec { from, to, conductor, target });
     }
     if spans.is_empty() {
-        return Err(loc.error(
-            K::MissingKey,
-            "spans",
-            "a section needs at least one [[spans]]",
-        ));
+        return Err(loc.error(K::MissingKey, "spans", "a section needs at least one [[spans]]"));
     }
 
     if registry.get(&raw.mesh.kind).is_none() {
         return Err(loc.error(
             K::UnknownName,
             "mesh.type",
-            format!(
-                "unknown element type `{}`; known types: {}",
-                raw.mesh.kind,
-                registry.names().join(", ")
-            ),
+            format!("unknown element type `{}`; known types: {}", raw.mesh.kind, registry.names().join(", ")),
         ));
     }
     let n = raw.mesh.elements_per_span;
@@ -277,10 +268,143 @@ pub(super) fn validate(
                 Some(rho) => positive(loc, "load_case.ice.density", rho, "kg/m³")?,
                 None => GLAZE_ICE_DENSITY,
             };
-            Some(RadialIce {
-                thickness: t,
-                density,
+            Some(RadialIce { thickness: t, density })
+        }
+    };
+    let iced_aero_table = match &raw.load_case.ice {
+        Some(ice) => match &ice.aero_table {
+            Some(file) => Some(table_at(loc, "load_case.ice.aero_table", file)?),
+            None => None,
+        },
+        None => None,
+    };
+    let wind = match &raw.load_case.wind {
+        None => None,
+        Some(w) => {
+            let key = |f: &str| format!("load_case.wind.{f}");
+            if !(w.speed.is_finite() && w.speed >= 0.0 && w.speed < 150.0) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &key("speed"),
+                    format!("must be a mean wind speed in m/s between 0 and 150, got {}", w.speed),
+                ));
+            }
+            if !w.direction.is_finite() {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &key("direction"),
+                    "must be an angle in degrees from +X",
+                ));
+            }
+            let profile = match w.profile.as_deref().unwrap_or("uniform") {
+                "uniform" => WindProfile::Uniform,
+                "power_law" => {
+                    let a = w.exponent.ok_or_else(|| {
+                        loc.error(
+                            K::MissingKey,
+                            &key("exponent"),
+                            "profile = \"power_law\" needs an exponent, e.g. 0.16",
+                        )
+                    })?;
+                    if !(a.is_finite() && (0.0..1.0).contains(&a)) {
+                        return Err(loc.error(
+                            K::InvalidValue,
+                            &key("exponent"),
+                            format!("must be in [0, 1), got {a}"),
+                        ));
+                    }
+                    WindProfile::PowerLaw { exponent: a }
+                }
+                "logarithmic" => {
+                    let z0 = w.roughness_length.ok_or_else(|| {
+                        loc.error(
+                            K::MissingKey,
+                            &key("roughness_length"),
+                            "profile = \"logarithmic\" needs a roughness_length in m, e.g. 0.05",
+                        )
+                    })?;
+                    WindProfile::Logarithmic {
+                        roughness_length: positive(loc, &key("roughness_length"), z0, "m")?,
+                    }
+                }
+                other => {
+                    return Err(loc.error(
+                        K::UnknownName,
+                        &key("profile"),
+                        format!("unknown profile `{other}`; known profiles: uniform, power_law, logarithmic"),
+                    ))
+                }
+            };
+            let reference_height = match w.reference_height {
+                Some(h) => positive(loc, &key("reference_height"), h, "m")?,
+                None => 10.0,
+            };
+            if let WindProfile::Logarithmic { roughness_length } = profile {
+                if roughness_length >= reference_height {
+                    return Err(loc.error(
+                        K::InvalidValue,
+                        &key("roughness_length"),
+                        "must be below the reference height",
+                    ));
+                }
+            }
+            let radius = w.characteristic_radius.unwrap_or(0.0);
+            if !(radius.is_finite() && radius >= 0.0) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &key("characteristic_radius"),
+                    format!("must be zero or a positive radius in m, got {radius}"),
+                ));
+            }
+            Some(WindSpec {
+                wind: MeanWind {
+                    speed: w.speed,
+                    direction: w.direction.to_radians(),
+                    reference_height,
+                    profile,
+                    air_density: match w.air_density {
+                        Some(rho) => positive(loc, &key("air_density"), rho, "kg/m³")?,
+                        None => ISA_AIR_DENSITY,
+                    },
+                },
+                include_twist: w.include_twist.unwrap_or(true),
+                characteristic_radius: radius,
             })
+        }
+    };
+    let screening = match &raw.screening {
+        None => None,
+        Some(sc) => {
+            let speeds = &sc.wind_speeds;
+            if speeds.is_empty() {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "screening.wind_speeds",
+                    "give at least one wind speed in m/s",
+                ));
+            }
+            if speeds.iter().any(|u| !(u.is_finite() && *u > 0.0 && *u < 150.0))
+                || speeds.windows(2).any(|w| w[1] <= w[0])
+            {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "screening.wind_speeds",
+                    "wind speeds must be positive (m/s, below 150) and strictly increasing",
+                ));
+            }
+            let xi = sc.structural_damping;
+            if !(xi.is_finite() && (0.0..1.0).contains(&xi)) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "screening.structural_damping",
+                    format!("must be a damping ratio in [0, 1), got {xi}"),
+                ));
+            }
+            let modes = sc.modes.unwrap_or(20);
+            if modes == 0 {
+                return Err(loc.error(K::InvalidValue, "screening.modes", "must be at least 1"));
+            }
+            Some(ScreeningSpec { wind_speeds: speeds.clone(), structural_damping: xi, modes })
         }
     };
     let gravity = match raw.load_case.gravity {
@@ -290,13 +414,7 @@ pub(super) fn validate(
 
     let solver = SolverSpec {
         max_iterations: match raw.solver.max_iterations {
-            Some(0) => {
-                return Err(loc.error(
-                    K::InvalidValue,
-                    "solver.max_iterations",
-                    "must be at least 1",
-                ))
-            }
+            Some(0) => return Err(loc.error(K::InvalidValue, "solver.max_iterations", "must be at least 1")),
             Some(n) => n,
             None => 30,
         },
@@ -337,17 +455,16 @@ pub(super) fn validate(
         spans,
         element_kind: raw.mesh.kind,
         elements_per_span: n,
-        stringing_temperature: temperature(
-            loc,
-            "stringing.temperature",
-            raw.stringing.temperature,
-        )?,
+        stringing_temperature: temperature(loc, "stringing.temperature", raw.stringing.temperature)?,
         load_case: LoadCase {
             name: raw.load_case.name,
             temperature: temperature(loc, "load_case.temperature", raw.load_case.temperature)?,
             ice,
             gravity,
+            wind,
+            iced_aero_table,
         },
         solver,
+        screening,
     })
 }

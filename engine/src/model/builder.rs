@@ -2,6 +2,7 @@
 //! stringing state, meshes it, and sets up supports and loads.
 
 use super::{DofMap, Model, SpanMesh, DOF_PER_NODE};
+use crate::aero_loads::ElementAero;
 use crate::error::{InputError, InputErrorKind};
 use crate::formfinding::{Catenary, CatenarySpan, DiscreteChain};
 use crate::input::Locator;
@@ -43,6 +44,7 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
     let mut uses_rotation = Vec::new();
     let mut stringing_load = Vec::new();
     let mut case_load = Vec::new();
+    let mut aero = Vec::new();
 
     for (i, s) in spec.spans.iter().enumerate() {
         let c = &spec.conductors[s.conductor];
@@ -58,27 +60,21 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             axial_stiffness: c.axial_stiffness,
         };
         let key = target_key(i, &s.target);
-        let impossible = |e: crate::formfinding::CatenaryError| {
-            loc.error(InputErrorKind::Impossible, &key, e.to_string())
-        };
+        let impossible =
+            |e: crate::formfinding::CatenaryError| loc.error(InputErrorKind::Impossible, &key, e.to_string());
         let h = match s.target {
             StringingTarget::HorizontalTension(h) => h,
             StringingTarget::Sag(d) => {
-                Catenary::from_sag(cat_span, d)
-                    .map_err(impossible)?
-                    .horizontal_tension
+                Catenary::from_sag(cat_span, d).map_err(impossible)?.horizontal_tension
             }
             StringingTarget::CatenaryParameter(p) => p * cat_span.weight_per_length,
         };
         let chain = DiscreteChain::strung(cat_span, h, n_el).map_err(impossible)?;
         // Largest stringing tension is at the higher support (or either on a level span).
         let v_last = chain.first_vertical
-            + (n_el as f64 - 1.0) * cat_span.weight_per_length * chain.unstretched_length
-                / n_el as f64;
+            + (n_el as f64 - 1.0) * cat_span.weight_per_length * chain.unstretched_length / n_el as f64;
         let end_weight = 0.5 * cat_span.weight_per_length * chain.unstretched_length / n_el as f64;
-        let t_max = h
-            .hypot(chain.first_vertical - end_weight)
-            .max(h.hypot(v_last + end_weight));
+        let t_max = h.hypot(chain.first_vertical - end_weight).max(h.hypot(v_last + end_weight));
         if t_max >= c.rated_strength {
             return Err(loc.error(
                 InputErrorKind::Impossible,
@@ -100,15 +96,17 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         restrained[first + n_el] = [true; DOF_PER_NODE];
 
         let ell = chain.unstretched_length / n_el as f64;
-        let ice_mass = spec
-            .load_case
-            .ice
-            .map_or(0.0, |ice| ice.mass_per_length(c.diameter));
-        let ice_polar = spec
-            .load_case
-            .ice
-            .map_or(0.0, |ice| ice.polar_inertia_per_length(c.diameter));
+        let ice_mass = spec.load_case.ice.map_or(0.0, |ice| ice.mass_per_length(c.diameter));
+        let ice_polar = spec.load_case.ice.map_or(0.0, |ice| ice.polar_inertia_per_length(c.diameter));
         let across = Vector3::z().cross(&direction);
+        // Section of the load case: the iced table (or a round iced section), else the bare one.
+        let table = match spec.load_case.ice {
+            Some(ice) if ice.thickness > 0.0 => match &spec.load_case.iced_aero_table {
+                Some(t) => t.clone(),
+                None => crate::input::round_section(ice.iced_diameter(c.diameter)),
+            },
+            _ => c.aero_table.clone(),
+        };
         let first_element = elements.len();
         for k in 0..n_el {
             let ids = [first + k, first + k + 1];
@@ -132,6 +130,7 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
                 uses_rotation[ids[0]] = true;
                 uses_rotation[ids[1]] = true;
             }
+            aero.push(Some(ElementAero { table: table.clone(), uses_rotations: element.uses_rotations() }));
             elements.push(element);
         }
         // Weight of each element lumped half to each node (consistent with the chain).
@@ -164,9 +163,7 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         .map(|(r, &rot)| std::array::from_fn(|d| !r[d] && (d < 3 || rot)))
         .collect();
     let dofs = DofMap::new(&free);
-    let support_nodes: Vec<usize> = (0..nodes.len())
-        .filter(|&n| restrained[n].iter().any(|&r| r))
-        .collect();
+    let support_nodes: Vec<usize> = (0..nodes.len()).filter(|&n| restrained[n].iter().any(|&r| r)).collect();
 
     let mut groups = BTreeMap::new();
     for (i, s) in spans.iter().enumerate() {
@@ -185,5 +182,7 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         stringing_load,
         case_load,
         temperature_change: spec.load_case.temperature - spec.stringing_temperature,
+        aero,
+        wind: spec.load_case.wind,
     })
 }

@@ -7,7 +7,9 @@ mod dof_map;
 pub use builder::build;
 pub use dof_map::{DofMap, DOF_PER_NODE};
 
+use crate::aero_loads::ElementAero;
 use crate::formfinding::DiscreteChain;
+use crate::spec::WindSpec;
 use glaze_elements::Element;
 use nalgebra::Vector3;
 use std::collections::BTreeMap;
@@ -56,6 +58,10 @@ pub struct Model {
     pub case_load: Vec<f64>,
     /// Temperature of the load case less the stringing temperature, in K.
     pub temperature_change: f64,
+    /// Aerodynamic data per element (`None` for elements the wind does not load).
+    pub aero: Vec<Option<ElementAero>>,
+    /// Mean wind of the load case.
+    pub wind: Option<WindSpec>,
 }
 
 impl Model {

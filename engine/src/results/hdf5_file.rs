@@ -4,11 +4,12 @@
 //! written under `<name>.partial` and renamed only after `complete = 1`
 //! has been written; a dropped, unfinished writer deletes its partial file.
 
-use crate::analysis::StaticResult;
+use crate::analysis::mode_shape::ENERGY_CLASSES;
+use crate::analysis::{ModalResult, StaticResult};
 use crate::error::GlazeError;
 use crate::model::Model;
 use hdf5::types::VarLenUnicode;
-use ndarray::{Array1, Array2};
+use ndarray::{Array1, Array2, Array3};
 use std::path::{Path, PathBuf};
 
 /// Value of the root attribute `format`.
@@ -24,10 +25,7 @@ pub struct ResultsWriter {
 }
 
 fn err(path: &Path, e: impl std::fmt::Display) -> GlazeError {
-    GlazeError::Results {
-        path: path.to_path_buf(),
-        message: e.to_string(),
-    }
+    GlazeError::Results { path: path.to_path_buf(), message: e.to_string() }
 }
 
 fn text(s: &str) -> VarLenUnicode {
@@ -37,10 +35,7 @@ fn text(s: &str) -> VarLenUnicode {
 
 /// The partial-file name used while `target` is being written.
 pub fn partial_path(target: &Path) -> PathBuf {
-    let mut name = target
-        .file_name()
-        .map(|n| n.to_os_string())
-        .unwrap_or_default();
+    let mut name = target.file_name().map(|n| n.to_os_string()).unwrap_or_default();
     name.push(".partial");
     target.with_file_name(name)
 }
@@ -50,11 +45,7 @@ impl ResultsWriter {
     pub fn create(target: &Path, input_toml: &str) -> Result<Self, GlazeError> {
         let partial = partial_path(target);
         let file = hdf5::File::create(&partial).map_err(|e| err(target, e))?;
-        let w = Self {
-            file: Some(file),
-            partial,
-            target: target.to_path_buf(),
-        };
+        let w = Self { file: Some(file), partial, target: target.to_path_buf() };
         w.attr_str("format", FORMAT_NAME)?;
         w.attr_u32("format_version", FORMAT_VERSION)?;
         w.attr_str("program_version", env!("CARGO_PKG_VERSION"))?;
@@ -80,10 +71,7 @@ impl ResultsWriter {
         let f = self.file();
         let attr = match f.attr(name) {
             Ok(a) => a,
-            Err(_) => f
-                .new_attr::<u32>()
-                .create(name)
-                .map_err(|e| err(&self.target, e))?,
+            Err(_) => f.new_attr::<u32>().create(name).map_err(|e| err(&self.target, e))?,
         };
         attr.write_scalar(&value).map_err(|e| err(&self.target, e))
     }
@@ -108,21 +96,10 @@ impl ResultsWriter {
             model.elements[i].nodes().get(k).map_or(-1, |&v| v as i64)
         });
         dataset(&g, "element_nodes", conn.view(), "1", t)?;
-        let kinds: Array1<VarLenUnicode> =
-            model.elements.iter().map(|el| text(el.kind())).collect();
+        let kinds: Array1<VarLenUnicode> = model.elements.iter().map(|el| text(el.kind())).collect();
         dataset(&g, "element_kind", kinds.view(), "1", t)?;
-        let l0: Array1<f64> = model
-            .elements
-            .iter()
-            .map(|el| el.unstretched_length())
-            .collect();
-        write_f64(
-            &g,
-            "element_unstretched_length",
-            l0.view().into_dyn(),
-            "m",
-            t,
-        )?;
+        let l0: Array1<f64> = model.elements.iter().map(|el| el.unstretched_length()).collect();
+        write_f64(&g, "element_unstretched_length", l0.view().into_dyn(), "m", t)?;
         let groups = g.create_group("groups").map_err(|e| err(t, e))?;
         for (name, nodes) in &model.groups {
             let idx: Array1<i64> = nodes.iter().map(|&v| v as i64).collect();
@@ -153,21 +130,13 @@ impl ResultsWriter {
             .iter()
             .map(|r| {
                 let q = nalgebra::UnitQuaternion::from_matrix(r);
-                let q = if q.w < 0.0 {
-                    -q.into_inner()
-                } else {
-                    q.into_inner()
-                };
+                let q = if q.w < 0.0 { -q.into_inner() } else { q.into_inner() };
                 [q.w, q.i, q.j, q.k]
             })
             .collect();
         let rot = Array2::from_shape_fn((n, 4), |(i, k)| quats[i][k]);
         write_f64(&g, "rotation", rot.view().into_dyn(), "1", t)?;
-        let axial: Array1<f64> = result
-            .element_output
-            .iter()
-            .map(|o| o.axial_force)
-            .collect();
+        let axial: Array1<f64> = result.element_output.iter().map(|o| o.axial_force).collect();
         write_f64(&g, "element_axial_force", axial.view().into_dyn(), "N", t)?;
         let s = result.support_force.len();
         let sf = Array2::from_shape_fn((s, 3), |(i, d)| result.support_force[i][d]);
@@ -177,45 +146,69 @@ impl ResultsWriter {
         };
         let spans = g.create_group("spans").map_err(|e| err(t, e))?;
         write_f64(&spans, "sag", column(&|s| s.sag).view().into_dyn(), "m", t)?;
-        write_f64(
-            &spans,
-            "sag_position",
-            column(&|s| s.sag_position).view().into_dyn(),
-            "m",
-            t,
-        )?;
-        write_f64(
-            &spans,
-            "horizontal_tension",
-            column(&|s| s.horizontal_tension).view().into_dyn(),
-            "N",
-            t,
-        )?;
-        let st = Array2::from_shape_fn((result.spans.len(), 2), |(i, k)| {
-            result.spans[i].support_tension[k]
-        });
+        write_f64(&spans, "sag_position", column(&|s| s.sag_position).view().into_dyn(), "m", t)?;
+        write_f64(&spans, "horizontal_tension", column(&|s| s.horizontal_tension).view().into_dyn(), "N", t)?;
+        let st = Array2::from_shape_fn((result.spans.len(), 2), |(i, k)| result.spans[i].support_tension[k]);
         write_f64(&spans, "support_tension", st.view().into_dyn(), "N", t)?;
+        write_f64(&spans, "horizontal_length", column(&|s| s.horizontal_length).view().into_dyn(), "m", t)?;
+        write_f64(&spans, "conductor_length", column(&|s| s.conductor_length).view().into_dyn(), "m", t)?;
+        write_f64(&spans, "unstretched_length", column(&|s| s.unstretched_length).view().into_dyn(), "m", t)?;
+        Ok(())
+    }
+
+    /// Writes `/modes` (layout in `docs/results-format.md`).
+    pub fn write_modes(&self, model: &Model, modes: &ModalResult) -> Result<(), GlazeError> {
+        let t = &self.target;
+        let g = self.file().create_group("modes").map_err(|e| err(t, e))?;
+        let group_str = |name: &str, value: &str| {
+            g.new_attr::<VarLenUnicode>()
+                .create(name)
+                .and_then(|a| a.write_scalar(&text(value)))
+                .map_err(|e| err(t, e))
+        };
+        group_str("eigen_solver", modes.method.name())?;
+        group_str(
+            "normalisation",
+            "mass: shape^T M shape = 1 over the free DOF (M lumped, at the static state)",
+        )?;
+        let group_f64 = |name: &str, value: f64| {
+            g.new_attr::<f64>()
+                .create(name)
+                .and_then(|a| a.write_scalar(&value))
+                .map_err(|e| err(t, e))
+        };
+        group_f64("shift", modes.shift)?;
+        group_f64("stiffness_asymmetry", modes.stiffness_asymmetry)?;
+        let k = modes.frequency_hz.len();
+        let n = model.node_count();
+        let column = |v: &[f64]| -> Array1<f64> { v.iter().copied().collect() };
+        write_f64(&g, "frequency_hz", column(&modes.frequency_hz).view().into_dyn(), "Hz", t)?;
+        write_f64(&g, "period", column(&modes.period_s).view().into_dyn(), "s", t)?;
+        let shape = Array3::from_shape_fn((k, n, 6), |(m, i, d)| modes.shapes[m][i][d]);
         write_f64(
-            &spans,
-            "horizontal_length",
-            column(&|s| s.horizontal_length).view().into_dyn(),
-            "m",
+            &g,
+            "shape",
+            shape.view().into_dyn(),
+            "kg^-1/2 (translations), kg^-1/2 m^-1 (rotations)",
             t,
         )?;
-        write_f64(
-            &spans,
-            "conductor_length",
-            column(&|s| s.conductor_length).view().into_dyn(),
-            "m",
-            t,
-        )?;
-        write_f64(
-            &spans,
-            "unstretched_length",
-            column(&|s| s.unstretched_length).view().into_dyn(),
-            "m",
-            t,
-        )?;
+        let share = Array2::from_shape_fn((k, 4), |(m, c)| modes.energy_share[m][c]);
+        write_f64(&g, "energy_share", share.view().into_dyn(), "1", t)?;
+        let columns: Array1<VarLenUnicode> = ENERGY_CLASSES.iter().map(|c| text(c)).collect();
+        g.dataset("energy_share")
+            .and_then(|ds| {
+                ds.new_attr::<VarLenUnicode>()
+                    .shape(columns.len())
+                    .create("columns")
+                    .and_then(|a| a.write(columns.view()))
+            })
+            .map_err(|e| err(t, e))?;
+        let p = model.spans.len();
+        let spans = Array2::from_shape_fn((k, p), |(m, s)| modes.span_share[m][s]);
+        write_f64(&g, "span_energy_share", spans.view().into_dyn(), "1", t)?;
+        let labels: Array1<VarLenUnicode> = modes.labels.iter().map(|l| text(l)).collect();
+        dataset(&g, "label", labels.view(), "1", t)?;
+        write_f64(&g, "residual", column(&modes.residuals).view().into_dyn(), "1", t)?;
         Ok(())
     }
 
@@ -249,11 +242,7 @@ fn dataset<T: hdf5::H5Type, D: ndarray::Dimension>(
     unit: &str,
     path: &Path,
 ) -> Result<(), GlazeError> {
-    let ds = g
-        .new_dataset_builder()
-        .with_data(data)
-        .create(name)
-        .map_err(|e| err(path, e))?;
+    let ds = g.new_dataset_builder().with_data(data).create(name).map_err(|e| err(path, e))?;
     ds.new_attr::<VarLenUnicode>()
         .create("unit")
         .and_then(|a| a.write_scalar(&text(unit)))

@@ -26,12 +26,10 @@ use faer::dyn_stack::{MemBuffer, MemStack, StackReq};
 use faer::linalg::cholesky::llt::factor::{LltError, LltRegularization};
 use faer::sparse::linalg::cholesky::supernodal::SupernodalLltRef;
 use faer::sparse::linalg::cholesky::{
-    factorize_symbolic_cholesky, CholeskySymbolicParams, LltRef, SymbolicCholesky,
-    SymbolicCholeskyRaw, SymmetricOrdering,
+    factorize_symbolic_cholesky, CholeskySymbolicParams, LltRef, SymbolicCholesky, SymbolicCholeskyRaw,
+    SymmetricOrdering,
 };
-use faer::sparse::linalg::lu::{
-    factorize_symbolic_lu, LuRef, LuSymbolicParams, NumericLu, SymbolicLu,
-};
+use faer::sparse::linalg::lu::{factorize_symbolic_lu, LuRef, LuSymbolicParams, NumericLu, SymbolicLu};
 use faer::sparse::linalg::{LuError, SupernodalThreshold};
 use faer::sparse::{SparseColMatRef, SymbolicSparseColMat};
 use faer::{Conj, MatMut, Par, Side};
@@ -122,10 +120,7 @@ fn buffer(req: StackReq) -> Result<MemBuffer, SolverError> {
 }
 
 impl LltState {
-    fn scratch(
-        symbolic: &SymbolicCholesky<usize>,
-        par: Par,
-    ) -> Result<(MemBuffer, MemBuffer), SolverError> {
+    fn scratch(symbolic: &SymbolicCholesky<usize>, par: Par) -> Result<(MemBuffer, MemBuffer), SolverError> {
         Ok((
             buffer(symbolic.factorize_numeric_llt_scratch::<f64>(par, Default::default()))?,
             buffer(symbolic.solve_in_place_scratch::<f64>(1, par))?,
@@ -134,10 +129,7 @@ impl LltState {
 }
 
 impl LuState {
-    fn scratch(
-        symbolic: &SymbolicLu<usize>,
-        par: Par,
-    ) -> Result<(MemBuffer, MemBuffer), SolverError> {
+    fn scratch(symbolic: &SymbolicLu<usize>, par: Par) -> Result<(MemBuffer, MemBuffer), SolverError> {
         Ok((
             buffer(symbolic.factorize_numeric_lu_scratch::<f64>(par, Default::default()))?,
             buffer(symbolic.solve_in_place_scratch::<f64>(1, par))?,
@@ -182,12 +174,7 @@ impl SparseDirect {
             for k in col_ptr[j]..diag[j] {
                 mirror_pairs.push((k, transpose[k]));
             }
-            for (k, &row) in row_idx
-                .iter()
-                .enumerate()
-                .take(col_ptr[j + 1])
-                .skip(diag[j])
-            {
+            for (k, &row) in row_idx.iter().enumerate().take(col_ptr[j + 1]).skip(diag[j]) {
                 lower_rows.push(row);
                 lower_src.push(k);
             }
@@ -311,11 +298,7 @@ impl SparseDirect {
             .map_err(faer_error)?;
             self.stats.symbolic += 1;
             self.stats.symbolic_cholesky += 1;
-            tracing::debug!(
-                n = self.n,
-                len_l = symbolic.len_val(),
-                "symbolic LLt analysis"
-            );
+            tracing::debug!(n = self.n, len_l = symbolic.len_val(), "symbolic LLt analysis");
             let (factor_scratch, solve_scratch) = LltState::scratch(&symbolic, self.par)?;
             self.llt = Some(LltState {
                 l_values: vec![0.0; symbolic.len_val()],
@@ -347,23 +330,17 @@ impl SparseDirect {
                     SymbolicCholeskyRaw::Supernodal(_) => index,
                 };
                 let perm = st.symbolic.perm();
-                self.cholesky_failure =
-                    Some(perm.map_or(k, |p| p.arrays().0.get(k).copied().unwrap_or(k)));
+                self.cholesky_failure = Some(perm.map_or(k, |p| p.arrays().0.get(k).copied().unwrap_or(k)));
                 self.stats.cholesky_failures += 1;
                 tracing::debug!("matrix symmetric but not positive definite, using LU");
                 return Ok(false);
             }
         }
         self.stats.numeric_cholesky += 1;
-        let (ratio, dof) =
-            cholesky_pivot_ratio(&st.symbolic, &st.l_values, &self.values, &self.diag);
+        let (ratio, dof) = cholesky_pivot_ratio(&st.symbolic, &st.l_values, &self.values, &self.diag);
         self.pivot_ratio = Some((ratio, dof));
         if ratio.is_nan() || ratio > self.singularity_threshold {
-            tracing::debug!(
-                ratio,
-                dof,
-                "Cholesky pivot ratio above singularity threshold"
-            );
+            tracing::debug!(ratio, dof, "Cholesky pivot ratio above singularity threshold");
             return Err(SolverError::Singular { pivot: Some(dof) });
         }
         Ok(true)
@@ -374,22 +351,14 @@ impl SparseDirect {
         if self.lu.is_none() {
             let symbolic = factorize_symbolic_lu(
                 self.full.as_ref(),
-                LuSymbolicParams {
-                    supernodal_flop_ratio_threshold: self.supernodal,
-                    ..Default::default()
-                },
+                LuSymbolicParams { supernodal_flop_ratio_threshold: self.supernodal, ..Default::default() },
             )
             .map_err(faer_error)?;
             self.stats.symbolic += 1;
             self.stats.symbolic_lu += 1;
             tracing::debug!(n = self.n, "symbolic LU analysis");
             let (factor_scratch, solve_scratch) = LuState::scratch(&symbolic, self.par)?;
-            self.lu = Some(LuState {
-                symbolic,
-                numeric: NumericLu::new(),
-                factor_scratch,
-                solve_scratch,
-            });
+            self.lu = Some(LuState { symbolic, numeric: NumericLu::new(), factor_scratch, solve_scratch });
         }
         let Some(st) = self.lu.as_mut() else {
             return Err(SolverError::Faer("symbolic LU missing".into()));
@@ -432,9 +401,7 @@ impl SparseDirect {
         self.work_b.copy_from_slice(x);
         st.solve(self.par, x);
         if first_non_finite(x).is_some() {
-            return Err(SolverError::Singular {
-                pivot: self.cholesky_failure,
-            });
+            return Err(SolverError::Singular { pivot: self.cholesky_failure });
         }
         let pattern = (self.full.col_ptr(), self.full.row_idx());
         let mut step = 0;
@@ -446,25 +413,18 @@ impl SparseDirect {
             let r_norm = norm_inf(&self.work_r);
             if self.norm_inf * x_norm > self.singularity_threshold * b_norm {
                 // κ∞(A) ≥ ‖A‖‖x‖/‖b‖ is beyond the threshold.
-                return Err(SolverError::Singular {
-                    pivot: Some(arg_max_abs(x)),
-                });
+                return Err(SolverError::Singular { pivot: Some(arg_max_abs(x)) });
             }
-            if r_norm <= REFINE_EPS_MULTIPLE * f64::EPSILON * scale || step == MAX_REFINEMENT_STEPS
-            {
+            if r_norm <= REFINE_EPS_MULTIPLE * f64::EPSILON * scale || step == MAX_REFINEMENT_STEPS {
                 if r_norm.is_nan() || r_norm > ACCEPT_RELATIVE_RESIDUAL * scale {
-                    return Err(SolverError::Singular {
-                        pivot: Some(arg_max_abs(&self.work_r)),
-                    });
+                    return Err(SolverError::Singular { pivot: Some(arg_max_abs(&self.work_r)) });
                 }
                 return Ok(());
             }
             step += 1;
             st.solve(self.par, &mut self.work_r);
             if first_non_finite(&self.work_r).is_some() {
-                return Err(SolverError::Singular {
-                    pivot: self.cholesky_failure,
-                });
+                return Err(SolverError::Singular { pivot: self.cholesky_failure });
             }
             for (xi, di) in x.iter_mut().zip(&self.work_r) {
                 *xi += di;
@@ -485,29 +445,20 @@ impl SparseDirect {
 
     #[cfg(test)]
     fn cholesky_is_supernodal(&self) -> Option<bool> {
-        self.llt
-            .as_ref()
-            .map(|st| matches!(st.symbolic.raw(), SymbolicCholeskyRaw::Supernodal(_)))
+        self.llt.as_ref().map(|st| matches!(st.symbolic.raw(), SymbolicCholeskyRaw::Supernodal(_)))
     }
 }
 
 impl LinearSolver for SparseDirect {
     fn factor(&mut self, values: &[f64]) -> Result<Factorisation, SolverError> {
-        assert_eq!(
-            values.len(),
-            self.values.len(),
-            "values length must equal the pattern's nnz"
-        );
+        assert_eq!(values.len(), self.values.len(), "values length must equal the pattern's nnz");
         self.current = None;
         self.pivot_ratio = None;
         self.cholesky_failure = None;
         let mut max_abs = 0.0f64;
         for (k, &v) in values.iter().enumerate() {
             if !v.is_finite() {
-                return Err(SolverError::NonFinite {
-                    lambda: f64::NAN,
-                    dof: self.full.row_idx()[k],
-                });
+                return Err(SolverError::NonFinite { lambda: f64::NAN, dof: self.full.row_idx()[k] });
             }
             max_abs = max_abs.max(v.abs());
         }
@@ -523,10 +474,7 @@ impl LinearSolver for SparseDirect {
         }
         let tol = self.symmetry_tolerance * max_abs;
         let symmetric = self.symmetry_tolerance >= 0.0
-            && self
-                .mirror_pairs
-                .iter()
-                .all(|&(k, kt)| (values[k] - values[kt]).abs() <= tol);
+            && self.mirror_pairs.iter().all(|&(k, kt)| (values[k] - values[kt]).abs() <= tol);
         let kind = if symmetric && self.factor_cholesky()? {
             Factorisation::Cholesky
         } else {
@@ -538,19 +486,12 @@ impl LinearSolver for SparseDirect {
     }
 
     fn solve_in_place(&mut self, rhs: &mut [f64]) -> Result<(), SolverError> {
-        assert_eq!(
-            rhs.len(),
-            self.n,
-            "right-hand side length must equal the dimension"
-        );
+        assert_eq!(rhs.len(), self.n, "right-hand side length must equal the dimension");
         let Some(kind) = self.current else {
             return Err(SolverError::NotFactored);
         };
         if let Some(i) = first_non_finite(rhs) {
-            return Err(SolverError::NonFinite {
-                lambda: f64::NAN,
-                dof: i,
-            });
+            return Err(SolverError::NonFinite { lambda: f64::NAN, dof: i });
         }
         self.stats.solves += 1;
         if self.n == 0 {
@@ -673,15 +614,9 @@ mod tests {
 
     /// Random overlapping element groups over n equations: a chain of
     /// 2-equation links (so every equation is reached) plus random groups.
-    fn random_groups(
-        rng: &mut Lcg,
-        n: usize,
-        extra: usize,
-        max_size: usize,
-    ) -> Vec<Vec<Option<usize>>> {
-        let mut groups: Vec<Vec<Option<usize>>> = (0..n.saturating_sub(1))
-            .map(|i| vec![Some(i), Some(i + 1)])
-            .collect();
+    fn random_groups(rng: &mut Lcg, n: usize, extra: usize, max_size: usize) -> Vec<Vec<Option<usize>>> {
+        let mut groups: Vec<Vec<Option<usize>>> =
+            (0..n.saturating_sub(1)).map(|i| vec![Some(i), Some(i + 1)]).collect();
         for _ in 0..extra {
             let m = 2 + rng.below(max_size - 1);
             groups.push((0..m).map(|_| Some(rng.below(n))).collect());
@@ -748,22 +683,14 @@ mod tests {
     }
 
     /// Solves A x = b and returns ‖Ax − b‖∞ / (ε · n · ‖A‖∞ · ‖x‖∞).
-    fn scaled_residual(
-        solver: &mut SparseDirect,
-        p: &SparsityPattern,
-        values: &[f64],
-        rng: &mut Lcg,
-    ) -> f64 {
+    fn scaled_residual(solver: &mut SparseDirect, p: &SparsityPattern, values: &[f64], rng: &mut Lcg) -> f64 {
         let n = p.dim();
         let b: Vec<f64> = (0..n).map(|_| rng.symmetric()).collect();
         let mut x = b.clone();
         solver.solve_in_place(&mut x).unwrap();
         let mut ax = vec![0.0; n];
         p.mul_vec(values, &x, &mut ax);
-        let r = ax
-            .iter()
-            .zip(&b)
-            .fold(0.0, |m: f64, (a, b)| m.max((a - b).abs()));
+        let r = ax.iter().zip(&b).fold(0.0, |m: f64, (a, b)| m.max((a - b).abs()));
         r / (f64::EPSILON * n as f64 * norm_inf_matrix(p, values) * norm_inf(&x))
     }
 
@@ -790,19 +717,13 @@ mod tests {
                 ratios.push((ratio, dof));
                 for _ in 0..3 {
                     let s = scaled_residual(&mut solver, &p, &values, &mut rng);
-                    assert!(
-                        s <= C,
-                        "n = {n}, supernodal = {supernodal}: scaled residual {s}"
-                    );
+                    assert!(s <= C, "n = {n}, supernodal = {supernodal}: scaled residual {s}");
                 }
             }
             // Both kernels compute the same L (same AMD ordering), so the
             // diagonal read from either storage must give the same ratio.
             assert_eq!(ratios[0].1, ratios[1].1);
-            assert!(
-                (ratios[0].0 - ratios[1].0).abs() <= 1e-8 * ratios[0].0,
-                "{ratios:?}"
-            );
+            assert!((ratios[0].0 - ratios[1].0).abs() <= 1e-8 * ratios[0].0, "{ratios:?}");
         }
     }
 
@@ -810,9 +731,8 @@ mod tests {
     fn default_kernel_choice_is_supernodal_for_dense_fronts() {
         // Groups of 40 equations overlapping by half: dense fronts.
         let n = 400;
-        let groups: Vec<Vec<Option<usize>>> = (0..n / 20 - 1)
-            .map(|s| (20 * s..20 * s + 40).map(Some).collect())
-            .collect();
+        let groups: Vec<Vec<Option<usize>>> =
+            (0..n / 20 - 1).map(|s| (20 * s..20 * s + 40).map(Some).collect()).collect();
         let mut rng = Lcg::new(0x5eed_0101);
         let p = pattern_of(n, &groups);
         let values = spd_values(&mut rng, &p, &groups);
@@ -840,10 +760,7 @@ mod tests {
         let mut solver = SparseDirect::new(&p);
         assert_eq!(solver.factor(&values).unwrap(), Factorisation::Lu);
         let st = solver.stats();
-        assert_eq!(
-            (st.cholesky_failures, st.numeric_cholesky, st.numeric_lu),
-            (1, 0, 1)
-        );
+        assert_eq!((st.cholesky_failures, st.numeric_cholesky, st.numeric_lu), (1, 0, 1));
         assert_eq!(st.symbolic, 2, "LLᵀ analysed (then failed), LU analysed");
         assert_eq!((st.symbolic_cholesky, st.symbolic_lu), (1, 1));
         let s = scaled_residual(&mut solver, &p, &values, &mut rng);
@@ -860,10 +777,7 @@ mod tests {
             let mut solver = SparseDirect::new(&p);
             assert_eq!(solver.factor(&values).unwrap(), Factorisation::Lu);
             let st = solver.stats();
-            assert_eq!(
-                (st.symbolic, st.cholesky_failures, st.numeric_lu),
-                (1, 0, 1)
-            );
+            assert_eq!((st.symbolic, st.cholesky_failures, st.numeric_lu), (1, 0, 1));
             let s = scaled_residual(&mut solver, &p, &values, &mut rng);
             assert!(s <= C, "n = {n}: scaled residual {s}");
         }
@@ -899,10 +813,7 @@ mod tests {
             assert!(s <= C, "scaled residual {s}");
         }
         let st = solver.stats();
-        assert_eq!(
-            (st.symbolic, st.symbolic_cholesky, st.symbolic_lu),
-            (1, 1, 0)
-        );
+        assert_eq!((st.symbolic, st.symbolic_cholesky, st.symbolic_lu), (1, 1, 0));
         assert_eq!(st.numeric_cholesky, 10);
         assert_eq!(st.solves, 10);
         // LU values on the same solver: one more symbolic analysis, then reuse.
@@ -913,10 +824,7 @@ mod tests {
             assert!(s <= C, "scaled residual {s}");
         }
         let st = solver.stats();
-        assert_eq!(
-            (st.symbolic, st.numeric_lu, st.numeric_cholesky),
-            (2, 10, 10)
-        );
+        assert_eq!((st.symbolic, st.numeric_lu, st.numeric_cholesky), (2, 10, 10));
     }
 
     /// Expects `Singular` from `factor` or from the first solve; never a panic,
@@ -927,19 +835,13 @@ mod tests {
             let mut solver = SparseDirect::new(p).force_supernodal(supernodal);
             pivots.push(singular_pivot(&mut solver, p, values));
             // And through LU alone (a non-symmetric caller sees this path).
-            let mut solver = SparseDirect::new(p)
-                .force_supernodal(supernodal)
-                .with_symmetry_tolerance(-1.0);
+            let mut solver = SparseDirect::new(p).force_supernodal(supernodal).with_symmetry_tolerance(-1.0);
             pivots.push(singular_pivot(&mut solver, p, values));
         }
         pivots
     }
 
-    fn singular_pivot(
-        solver: &mut SparseDirect,
-        p: &SparsityPattern,
-        values: &[f64],
-    ) -> Option<usize> {
+    fn singular_pivot(solver: &mut SparseDirect, p: &SparsityPattern, values: &[f64]) -> Option<usize> {
         match solver.factor(values) {
             Err(SolverError::Singular { pivot }) => pivot,
             Err(e) => panic!("expected Singular, got {e}"),
@@ -960,8 +862,7 @@ mod tests {
         // 1. Free spring chain, k = 1000 N/m, no support: K is the path
         //    Laplacian, PSD with the rigid translation in its null space.
         let n = 30;
-        let groups: Vec<Vec<Option<usize>>> =
-            (0..n - 1).map(|i| vec![Some(i), Some(i + 1)]).collect();
+        let groups: Vec<Vec<Option<usize>>> = (0..n - 1).map(|i| vec![Some(i), Some(i + 1)]).collect();
         let p = pattern_of(n, &groups);
         let asm = Assembler::new(&p, groups.iter().map(|g| g.as_slice()));
         let mut values = vec![0.0; p.nnz()];
@@ -981,14 +882,8 @@ mod tests {
         // Symmetric path: located in the floating part. LU alone on a NaN
         // solution cannot locate it and says so (None).
         let pivots = assert_singular(&p, &values);
-        assert!(
-            pivots.iter().all(|p| p.is_none_or(|i| i >= 15)),
-            "pivots {pivots:?}"
-        );
-        assert!(
-            pivots[0].is_some() && pivots[2].is_some(),
-            "pivots {pivots:?}"
-        );
+        assert!(pivots.iter().all(|p| p.is_none_or(|i| i >= 15)), "pivots {pivots:?}");
+        assert!(pivots[0].is_some() && pivots[2].is_some(), "pivots {pivots:?}");
 
         // 3. A zero column and row (an unconnected equation with no stiffness).
         let mut rng = Lcg::new(0x5eed_0106);
@@ -1030,21 +925,13 @@ mod tests {
         let mut x = [1.0, 2.0];
         assert_eq!(solver.solve_in_place(&mut x), Err(SolverError::NotFactored));
         let bad = [1.0, f64::NAN, 0.0, 1.0];
-        assert!(matches!(
-            solver.factor(&bad),
-            Err(SolverError::NonFinite { dof: 1, .. })
-        ));
+        assert!(matches!(solver.factor(&bad), Err(SolverError::NonFinite { dof: 1, .. })));
         assert_eq!(solver.solve_in_place(&mut x), Err(SolverError::NotFactored));
         solver.factor(&[2.0, 0.0, 0.0, 4.0]).unwrap();
         let mut y = [f64::INFINITY, 1.0];
-        assert!(matches!(
-            solver.solve_in_place(&mut y),
-            Err(SolverError::NonFinite { dof: 0, .. })
-        ));
+        assert!(matches!(solver.solve_in_place(&mut y), Err(SolverError::NonFinite { dof: 0, .. })));
         solver.solve_in_place(&mut x).unwrap();
-        assert!(
-            (x[0] - 0.5).abs() <= 4.0 * f64::EPSILON && (x[1] - 0.5).abs() <= 4.0 * f64::EPSILON
-        );
+        assert!((x[0] - 0.5).abs() <= 4.0 * f64::EPSILON && (x[1] - 0.5).abs() <= 4.0 * f64::EPSILON);
         // Zero-sized system.
         let empty = SparsityPattern::from_dof_groups(0, std::iter::empty());
         let mut s = SparseDirect::new(&empty);
@@ -1057,9 +944,8 @@ mod tests {
         // Block diagonal, dense 4×4 blocks, identity values except one −1:
         // LLᵀ stops exactly at that equation. Pins faer's index convention.
         let n = 12;
-        let groups: Vec<Vec<Option<usize>>> = (0..3)
-            .map(|b| (4 * b..4 * b + 4).map(Some).collect())
-            .collect();
+        let groups: Vec<Vec<Option<usize>>> =
+            (0..3).map(|b| (4 * b..4 * b + 4).map(Some).collect()).collect();
         let p = pattern_of(n, &groups);
         let diag = p.diagonal_indices();
         for bad in [0, 5, 11] {

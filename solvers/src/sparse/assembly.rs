@@ -62,14 +62,7 @@ impl Assembler {
             dof_ptr.push(eq.len());
             mat_ptr.push(pos.len());
         }
-        Self {
-            n: pattern.dim(),
-            nnz: pattern.nnz(),
-            dof_ptr,
-            eq,
-            mat_ptr,
-            pos,
-        }
+        Self { n: pattern.dim(), nnz: pattern.nnz(), dof_ptr, eq, mat_ptr, pos }
     }
 
     /// Number of groups (elements).
@@ -129,9 +122,7 @@ mod tests {
         let groups: Vec<Vec<Option<usize>>> = (0..80)
             .map(|_| {
                 let m = 1 + rng.below(12);
-                (0..m)
-                    .map(|_| (rng.uniform() > 0.15).then(|| rng.below(n)))
-                    .collect()
+                (0..m).map(|_| (rng.uniform() > 0.15).then(|| rng.below(n))).collect()
             })
             .collect();
         let p = SparsityPattern::from_dof_groups(n, groups.iter().map(|g| g.as_slice()));

@@ -33,10 +33,7 @@ impl SparsityPattern {
     /// # Panics
     /// If an equation number is `>= n` (an inconsistent DOF map, a programming
     /// error in the caller).
-    pub fn from_dof_groups<'a, I: IntoIterator<Item = &'a [Option<usize>]>>(
-        n: usize,
-        groups: I,
-    ) -> Self {
+    pub fn from_dof_groups<'a, I: IntoIterator<Item = &'a [Option<usize>]>>(n: usize, groups: I) -> Self {
         // Free equations of each group, flattened (CSR by group).
         let mut group_ptr = vec![0usize];
         let mut group_eq = Vec::new();
@@ -86,11 +83,7 @@ impl SparsityPattern {
             row_idx[start..].sort_unstable();
             col_ptr.push(row_idx.len());
         }
-        Self {
-            n,
-            col_ptr,
-            row_idx,
-        }
+        Self { n, col_ptr, row_idx }
     }
 
     /// Number of equations n (rows = columns).
@@ -203,15 +196,7 @@ mod tests {
         (0..count)
             .map(|_| {
                 let m = 1 + rng.below(12);
-                (0..m)
-                    .map(|_| {
-                        if rng.uniform() < 0.2 {
-                            None
-                        } else {
-                            Some(rng.below(n))
-                        }
-                    })
-                    .collect()
+                (0..m).map(|_| if rng.uniform() < 0.2 { None } else { Some(rng.below(n)) }).collect()
             })
             .collect()
     }
