@@ -36,6 +36,30 @@ enum Command {
         #[arg(long, short)]
         out: PathBuf,
     },
+    /// Solve the static load case, then the lowest natural modes about it;
+    /// print the mode table and write the results file.
+    Modes {
+        /// Input TOML file.
+        file: PathBuf,
+        /// Number of lowest modes.
+        #[arg(long, short = 'k', default_value_t = 10)]
+        count: usize,
+        /// Results file to write (HDF5).
+        #[arg(long, short)]
+        out: PathBuf,
+        /// Eigen solver: dense for small models, Lanczos for large ones.
+        #[arg(long, value_enum, default_value = "auto")]
+        method: commands::SolverChoice,
+    },
+    /// Galloping-onset screening: modes and their aerodynamic damping over
+    /// the wind speeds of `[screening]`, with the onset speed of each mode.
+    Screen {
+        /// Input TOML file (with `[screening]` and `[load_case.wind]`).
+        file: PathBuf,
+        /// Output format.
+        #[arg(long, value_enum, default_value = "table")]
+        format: commands::ScreenFormat,
+    },
 }
 
 fn main() -> ExitCode {
@@ -50,6 +74,10 @@ fn main() -> ExitCode {
     let result = match &cli.command {
         Command::Check { file } => commands::check(file, cli.quiet),
         Command::Static { file, out } => commands::run_static(file, out, cli.quiet),
+        Command::Modes { file, count, out, method } => {
+            commands::run_modes(file, *count, *method, out, cli.quiet)
+        }
+        Command::Screen { file, format } => commands::run_screen(file, *format),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -149,3 +149,26 @@ fn failed_run_removes_a_stale_results_file() {
     assert_eq!(o.code, 2);
     assert!(!out.exists(), "the stale results file of the earlier run was kept");
 }
+
+/// A coefficient table whose angles go backwards: the error names the input
+/// key that points at the table, and the table file and line.
+#[test]
+fn non_monotone_coefficient_table() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("bad.csv"),
+        "# reference_diameter = 0.03\nalpha_deg, cd, cl\n-10, 1, 0\n0, 1, 0\n-5, 1, 0\n10, 1, 0\n20, 1, 0\n",
+    )
+    .unwrap();
+    let input = GOOD
+        .replace("rated_strength = 140100.0     # N", "rated_strength = 140100.0\naero_table = \"bad.csv\"");
+    let file = dir.path().join("case.toml");
+    std::fs::write(&file, &input).unwrap();
+    let o =
+        Command::new(env!("CARGO_BIN_EXE_glaze")).args(["check", file.to_str().unwrap()]).output().unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    let line = line_of(&input, "aero_table");
+    assert!(err.contains(&format!("case.toml:{line}: conductors.acsr_795.aero_table:")), "{err}");
+    assert!(err.contains("bad.csv:5"), "the table's own line is named: {err}");
+}

@@ -24,6 +24,9 @@ pub struct ElementAero {
     pub table: Arc<CoefficientTable>,
     /// Whether the element carries nodal rotations (twist, moments).
     pub uses_rotations: bool,
+    /// Fixed rotation of the section's reference axis about the conductor
+    /// axis (ice orientation), added to the twist, in rad.
+    pub orientation: f64,
 }
 
 /// Nodal velocities of an element's two nodes.
@@ -70,7 +73,8 @@ pub fn element_load(
         diameter: aero.table.reference_diameter(),
         air_density: wind.wind.air_density,
         characteristic_radius: wind.characteristic_radius,
-        include_twist: wind.include_twist,
+        // The switch is applied here so that the fixed orientation always counts.
+        include_twist: true,
     };
     for (xi, w) in GAUSS {
         let n = [(1.0 - xi) / 2.0, (1.0 + xi) / 2.0];
@@ -78,7 +82,7 @@ pub fn element_load(
         let state = SectionState {
             wind: wind.wind.velocity_at(x.z) * scale,
             velocity: vel[0].velocity * n[0] + vel[1].velocity * n[1],
-            twist: theta0 * n[0] + theta1 * n[1],
+            twist: if wind.include_twist { theta0 * n[0] + theta1 * n[1] } else { 0.0 } + aero.orientation,
             twist_rate: (vel[0].angular * n[0] + vel[1].angular * n[1]).dot(&frame.e_x),
         };
         let load = section_load(&section, &frame, &state)?;

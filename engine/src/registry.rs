@@ -53,7 +53,7 @@ impl ConductorElementKind for BeamKind {
             mass_per_length: s.mass_per_length,
             polar_inertia_per_length: s.polar_inertia_per_length,
             thermal_expansion: c.thermal_expansion,
-            bowing: false,
+            bowing: true,
             axial_torsion_coupling: 0.0,
         };
         CorotationalBeam::new(s.nodes, s.x0, s.unstretched_length, s.reference_y, section)

@@ -79,6 +79,8 @@ pub struct LoadCase {
     pub wind: Option<WindSpec>,
     /// Aerodynamic coefficients of the iced section (with `ice`).
     pub iced_aero_table: Option<Arc<CoefficientTable>>,
+    /// Orientation of the iced section's reference axis, in rad (see the schema).
+    pub ice_orientation: f64,
 }
 
 /// Mean wind of a load case and how the sections see it.

@@ -1,9 +1,13 @@
 //! One file per command; this module holds what they share.
 
 mod check;
+mod modes;
+mod screen;
 mod static_cmd;
 
 pub use check::check;
+pub use modes::{run_modes, SolverChoice};
+pub use screen::{run_screen, ScreenFormat};
 pub use static_cmd::run_static;
 
 use glaze_engine::{GlazeError, InputErrorKind};
@@ -19,5 +23,6 @@ pub fn exit_code(e: &GlazeError) -> u8 {
         GlazeError::Input(i) if i.kind == InputErrorKind::NotConverged => 3,
         GlazeError::Input(_) => 2,
         GlazeError::Results { .. } => 4,
+        GlazeError::Analysis { .. } => 3,
     }
 }

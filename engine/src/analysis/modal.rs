@@ -34,8 +34,8 @@ use crate::error::GlazeError;
 use crate::model::{Model, DOF_PER_NODE};
 use glaze_elements::{Element, ElementContext, NodeState};
 use glaze_solvers::{
-    dense_shift_invert, lanczos_shift_invert, Assembler, EigenSettings, NonlinearSystem,
-    SolverError, SparsityPattern,
+    dense_shift_invert, lanczos_shift_invert, Assembler, EigenSettings, NonlinearSystem, SolverError,
+    SparsityPattern,
 };
 use nalgebra::{DMatrix, Matrix3, Matrix6};
 use std::io::Write;
@@ -98,12 +98,7 @@ pub struct ModalSettings {
 impl ModalSettings {
     /// The lowest `count` modes, automatic method and shift.
     pub fn new(count: usize) -> Self {
-        Self {
-            count,
-            method: EigenMethod::Auto,
-            shift: None,
-            tolerance: DEFAULT_TOLERANCE,
-        }
+        Self { count, method: EigenMethod::Auto, shift: None, tolerance: DEFAULT_TOLERANCE }
     }
 }
 
@@ -145,9 +140,7 @@ pub enum ModalError {
 
 impl From<ModalError> for GlazeError {
     fn from(e: ModalError) -> Self {
-        GlazeError::Analysis {
-            message: format!("modal analysis: {e}"),
-        }
+        GlazeError::Analysis { message: format!("modal analysis: {e}") }
     }
 }
 
@@ -181,17 +174,9 @@ impl Linearisation {
         let pattern = system.pattern().clone();
         let mut residual = vec![0.0; pattern.dim()];
         let mut k = vec![0.0; pattern.nnz()];
-        system
-            .evaluate(1.0, &mut residual, Some(&mut k))
-            .map_err(|e| ModalError::Tangent(e.message))?;
+        system.evaluate(1.0, &mut residual, Some(&mut k)).map_err(|e| ModalError::Tangent(e.message))?;
         let states = node_states(model, config);
-        Self::assemble(
-            pattern,
-            model.dofs.all().to_vec(),
-            k,
-            &model.elements,
-            &states,
-        )
+        Self::assemble(pattern, model.dofs.all().to_vec(), k, &model.elements, &states)
     }
 
     /// Linearises any set of elements about node states `states`:
@@ -228,22 +213,13 @@ impl Linearisation {
         states: &[NodeState],
     ) -> Result<Self, ModalError> {
         if let Some(bad) = k.iter().position(|v| !v.is_finite()) {
-            return Err(ModalError::Tangent(format!(
-                "non-finite stiffness entry {bad}"
-            )));
+            return Err(ModalError::Tangent(format!("non-finite stiffness entry {bad}")));
         }
         let transpose = pattern.transpose_indices();
         let peak = k.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
-        let skew = k
-            .iter()
-            .zip(&transpose)
-            .fold(0.0_f64, |m, (v, &t)| m.max((v - k[t]).abs()));
+        let skew = k.iter().zip(&transpose).fold(0.0_f64, |m, (v, &t)| m.max((v - k[t]).abs()));
         let asymmetry = if peak > 0.0 { skew / peak } else { 0.0 };
-        let stiffness: Vec<f64> = k
-            .iter()
-            .zip(&transpose)
-            .map(|(v, &t)| 0.5 * (v + k[t]))
-            .collect();
+        let stiffness: Vec<f64> = k.iter().zip(&transpose).map(|(v, &t)| 0.5 * (v + k[t])).collect();
 
         let groups = element_groups(elements, &equations);
         let assembler = Assembler::new(&pattern, groups.iter().map(|g| g.as_slice()));
@@ -260,32 +236,15 @@ impl Linearisation {
             for (a, &node) in e.nodes().iter().enumerate() {
                 for i in 0..DOF_PER_NODE {
                     for j in 0..DOF_PER_NODE {
-                        node_mass[node][(i, j)] +=
-                            me[(a * DOF_PER_NODE + i) * m + a * DOF_PER_NODE + j];
+                        node_mass[node][(i, j)] += me[(a * DOF_PER_NODE + i) * m + a * DOF_PER_NODE + j];
                     }
                 }
             }
         }
         // T M Tᵀ is symmetric up to round-off; make it exactly so.
-        let mass: Vec<f64> = mass
-            .iter()
-            .zip(&transpose)
-            .map(|(v, &t)| 0.5 * (v + mass[t]))
-            .collect();
-        let massless_dofs = pattern
-            .diagonal_indices()
-            .iter()
-            .filter(|&&d| mass[d] == 0.0)
-            .count();
-        Ok(Self {
-            pattern,
-            stiffness,
-            mass,
-            asymmetry,
-            equations,
-            node_mass,
-            massless_dofs,
-        })
+        let mass: Vec<f64> = mass.iter().zip(&transpose).map(|(v, &t)| 0.5 * (v + mass[t])).collect();
+        let massless_dofs = pattern.diagonal_indices().iter().filter(|&&d| mass[d] == 0.0).count();
+        Ok(Self { pattern, stiffness, mass, asymmetry, equations, node_mass, massless_dofs })
     }
 
     /// Number of equations (free DOF).
@@ -303,9 +262,7 @@ impl Linearisation {
     /// K − σM is positive definite and well conditioned.
     pub fn default_shift(&self) -> f64 {
         let diag = self.pattern.diagonal_indices();
-        let kmax = diag
-            .iter()
-            .fold(0.0_f64, |m, &d| m.max(self.stiffness[d].abs()));
+        let kmax = diag.iter().fold(0.0_f64, |m, &d| m.max(self.stiffness[d].abs()));
         let mmax = diag.iter().fold(0.0_f64, |m, &d| m.max(self.mass[d]));
         if kmax > 0.0 && mmax > 0.0 {
             -1e-6 * kmax / mmax
@@ -335,9 +292,7 @@ impl Linearisation {
             ..EigenSettings::default()
         };
         let pairs = match method {
-            EigenMethod::Lanczos => {
-                lanczos_shift_invert(&self.pattern, &self.stiffness, &self.mass, &eigen)?
-            }
+            EigenMethod::Lanczos => lanczos_shift_invert(&self.pattern, &self.stiffness, &self.mass, &eigen)?,
             _ => dense_shift_invert(&self.pattern, &self.stiffness, &self.mass, &eigen)?,
         };
         // A negative ω² within round-off of the stiffness scale is a zero
@@ -346,10 +301,7 @@ impl Linearisation {
         let mut omega_squared = Vec::with_capacity(pairs.values.len());
         for (i, &l) in pairs.values.iter().enumerate() {
             if l < -floor {
-                return Err(ModalError::Unstable {
-                    mode: i + 1,
-                    omega_squared: l,
-                });
+                return Err(ModalError::Unstable { mode: i + 1, omega_squared: l });
             }
             omega_squared.push(l.max(0.0));
         }
@@ -357,22 +309,14 @@ impl Linearisation {
             .vectors
             .into_iter()
             .map(|mut v| {
-                let big = v
-                    .iter()
-                    .fold(0.0_f64, |m, &x| if x.abs() > m.abs() { x } else { m });
+                let big = v.iter().fold(0.0_f64, |m, &x| if x.abs() > m.abs() { x } else { m });
                 if big < 0.0 {
                     v.iter_mut().for_each(|x| *x = -*x);
                 }
                 v
             })
             .collect();
-        Ok(ModeSet {
-            omega_squared,
-            vectors,
-            residuals: pairs.residuals,
-            method,
-            shift,
-        })
+        Ok(ModeSet { omega_squared, vectors, residuals: pairs.residuals, method, shift })
     }
 
     /// A mode vector (over equations) spread to nodes, six components each
@@ -386,11 +330,7 @@ impl Linearisation {
 
     /// Writes K and M as Matrix Market files (`coordinate real general`,
     /// both triangles, 1-based, shortest round-trip decimal).
-    pub fn write_matrix_market(
-        &self,
-        stiffness_path: &Path,
-        mass_path: &Path,
-    ) -> std::io::Result<()> {
+    pub fn write_matrix_market(&self, stiffness_path: &Path, mass_path: &Path) -> std::io::Result<()> {
         write_matrix_market(stiffness_path, &self.pattern, &self.stiffness)?;
         write_matrix_market(mass_path, &self.pattern, &self.mass)
     }
@@ -459,17 +399,9 @@ pub fn run_modal(
 
 /// Describes the modes of `model`: frequencies, shapes per node, energy
 /// shares with `frames`, span shares, loops and labels.
-pub fn describe(
-    model: &Model,
-    lin: &Linearisation,
-    modes: &ModeSet,
-    frames: &[NodeFrame],
-) -> ModalResult {
+pub fn describe(model: &Model, lin: &Linearisation, modes: &ModeSet, frames: &[NodeFrame]) -> ModalResult {
     let omega: Vec<f64> = modes.omega_squared.iter().map(|l| l.sqrt()).collect();
-    let frequency_hz: Vec<f64> = omega
-        .iter()
-        .map(|w| w / (2.0 * std::f64::consts::PI))
-        .collect();
+    let frequency_hz: Vec<f64> = omega.iter().map(|w| w / (2.0 * std::f64::consts::PI)).collect();
     let period_s = frequency_hz.iter().map(|f| 1.0 / f).collect();
     let shapes: Vec<Vec<[f64; 6]>> = modes.vectors.iter().map(|v| lin.node_shape(v)).collect();
     let mut energy_share = Vec::new();
@@ -490,11 +422,8 @@ pub fn describe(
             .spans
             .iter()
             .map(|s| {
-                let e: f64 = s
-                    .nodes
-                    .iter()
-                    .map(|&n| per_node[n].iter().map(|p| p.max(0.0)).sum::<f64>())
-                    .sum();
+                let e: f64 =
+                    s.nodes.iter().map(|&n| per_node[n].iter().map(|p| p.max(0.0)).sum::<f64>()).sum();
                 if total > 0.0 {
                     e / total
                 } else {
@@ -502,18 +431,13 @@ pub fn describe(
                 }
             })
             .collect();
-        let dominant = (0..4)
-            .max_by(|&a, &b| shares[a].total_cmp(&shares[b]).then(b.cmp(&a)))
-            .unwrap_or(0);
+        let dominant = (0..4).max_by(|&a, &b| shares[a].total_cmp(&shares[b]).then(b.cmp(&a))).unwrap_or(0);
         let span_loops: Vec<usize> = model
             .spans
             .iter()
             .map(|s| {
-                let values: Vec<f64> = s
-                    .nodes
-                    .iter()
-                    .map(|&n| frames[n].component(dominant, &shape[n]))
-                    .collect();
+                let values: Vec<f64> =
+                    s.nodes.iter().map(|&n| frames[n].component(dominant, &shape[n])).collect();
                 mode_shape::loops(&values)
             })
             .collect();
@@ -555,10 +479,7 @@ pub fn node_frames(model: &Model, config: &Configuration) -> Vec<NodeFrame> {
             if axis.norm() == 0.0 {
                 axis = span.direction;
             }
-            frames[n] = NodeFrame {
-                longitudinal: span.direction,
-                axis: axis.normalize(),
-            };
+            frames[n] = NodeFrame { longitudinal: span.direction, axis: axis.normalize() };
         }
     }
     frames
@@ -567,11 +488,7 @@ pub fn node_frames(model: &Model, config: &Configuration) -> Vec<NodeFrame> {
 /// Writes `values` on `pattern` as a Matrix Market file (`coordinate real
 /// general`, both triangles, 1-based indices, shortest round-trip
 /// decimals), readable by `scipy.io.mmread`.
-pub fn write_matrix_market(
-    path: &Path,
-    pattern: &SparsityPattern,
-    values: &[f64],
-) -> std::io::Result<()> {
+pub fn write_matrix_market(path: &Path, pattern: &SparsityPattern, values: &[f64]) -> std::io::Result<()> {
     let mut out = std::io::BufWriter::new(std::fs::File::create(path)?);
     let n = pattern.dim();
     writeln!(out, "%%MatrixMarket matrix coordinate real general")?;
@@ -589,18 +506,11 @@ pub fn write_matrix_market(
 
 fn node_states(model: &Model, config: &Configuration) -> Vec<NodeState> {
     (0..model.node_count())
-        .map(|i| NodeState {
-            x0: model.nodes[i],
-            x: config.positions[i],
-            rotation: config.rotations[i],
-        })
+        .map(|i| NodeState { x0: model.nodes[i], x: config.positions[i], rotation: config.rotations[i] })
         .collect()
 }
 
-fn element_groups(
-    elements: &[Box<dyn Element>],
-    equations: &[Option<usize>],
-) -> Vec<Vec<Option<usize>>> {
+fn element_groups(elements: &[Box<dyn Element>], equations: &[Option<usize>]) -> Vec<Vec<Option<usize>>> {
     elements
         .iter()
         .map(|e| {
@@ -650,11 +560,9 @@ mod tests {
         for (i, v) in [2.0, 2.0, 2.0, 1.0, 3.0, 3.0].into_iter().enumerate() {
             m[i * 6 + i] = v;
         }
-        let r = nalgebra::Rotation3::from_axis_angle(
-            &nalgebra::Vector3::z_axis(),
-            std::f64::consts::FRAC_PI_2,
-        )
-        .into_inner();
+        let r =
+            nalgebra::Rotation3::from_axis_angle(&nalgebra::Vector3::z_axis(), std::f64::consts::FRAC_PI_2)
+                .into_inner();
         let out = rotate_inertia(&m, &[r]);
         let want = [2.0, 2.0, 2.0, 3.0, 1.0, 3.0];
         for i in 0..6 {

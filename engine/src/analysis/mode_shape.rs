@@ -72,16 +72,8 @@ impl NodeFrame {
     /// (global X if `axis` is vertical).
     pub fn along(axis: Vector3<f64>) -> Self {
         let plan = Vector3::new(axis.x, axis.y, 0.0);
-        let longitudinal = if plan.norm() > 1e-12 * axis.norm() {
-            plan.normalize()
-        } else {
-            Vector3::x()
-        };
-        let axis = if axis.norm() > 0.0 {
-            axis.normalize()
-        } else {
-            longitudinal
-        };
+        let longitudinal = if plan.norm() > 1e-12 * axis.norm() { plan.normalize() } else { Vector3::x() };
+        let axis = if axis.norm() > 0.0 { axis.normalize() } else { longitudinal };
         Self { longitudinal, axis }
     }
 
@@ -168,25 +160,12 @@ pub fn normalise(parts: [f64; 4]) -> [f64; 4] {
 }
 
 /// Energy of a mode shape per node and class (the node terms of φᵀMφ).
-pub fn node_energies(
-    shape: &[[f64; 6]],
-    node_mass: &[Matrix6<f64>],
-    frames: &[NodeFrame],
-) -> Vec<[f64; 4]> {
-    shape
-        .iter()
-        .zip(node_mass)
-        .zip(frames)
-        .map(|((phi, m), f)| node_energy(phi, m, f))
-        .collect()
+pub fn node_energies(shape: &[[f64; 6]], node_mass: &[Matrix6<f64>], frames: &[NodeFrame]) -> Vec<[f64; 4]> {
+    shape.iter().zip(node_mass).zip(frames).map(|((phi, m), f)| node_energy(phi, m, f)).collect()
 }
 
 /// Shares of the modal kinetic energy in the four classes, summing to 1.
-pub fn energy_shares(
-    shape: &[[f64; 6]],
-    node_mass: &[Matrix6<f64>],
-    frames: &[NodeFrame],
-) -> [f64; 4] {
+pub fn energy_shares(shape: &[[f64; 6]], node_mass: &[Matrix6<f64>], frames: &[NodeFrame]) -> [f64; 4] {
     let mut sum = [0.0; 4];
     for e in node_energies(shape, node_mass, frames) {
         for c in 0..4 {
@@ -339,9 +318,7 @@ mod tests {
     fn loops_count_sign_changes_and_ignore_tiny_values() {
         let n = 41;
         let sine = |k: usize| -> Vec<f64> {
-            (0..n)
-                .map(|i| (k as f64 * std::f64::consts::PI * i as f64 / (n - 1) as f64).sin())
-                .collect()
+            (0..n).map(|i| (k as f64 * std::f64::consts::PI * i as f64 / (n - 1) as f64).sin()).collect()
         };
         for k in 1..=6 {
             assert_eq!(loops(&sine(k)), k);
@@ -357,22 +334,10 @@ mod tests {
     #[test]
     fn labels_name_class_loops_and_spans() {
         let vertical = [0.97, 0.01, 0.02, 0.0];
-        assert_eq!(
-            label(&vertical, &[0.0, 1.0, 0.0], &[0, 2, 0]),
-            "vertical, 2 loops, span 2"
-        );
-        assert_eq!(
-            label(&vertical, &[0.4, 0.35, 0.25], &[1, 1, 1]),
-            "vertical, 1 loop, spans 1–3"
-        );
-        assert_eq!(
-            label(&vertical, &[0.45, 0.1, 0.45], &[1, 3, 2]),
-            "vertical, 1/2 loops, spans 1, 3"
-        );
-        assert_eq!(
-            label(&[0.6, 0.0, 0.4, 0.0], &[1.0], &[3]),
-            "vertical + longitudinal, 3 loops, span 1"
-        );
+        assert_eq!(label(&vertical, &[0.0, 1.0, 0.0], &[0, 2, 0]), "vertical, 2 loops, span 2");
+        assert_eq!(label(&vertical, &[0.4, 0.35, 0.25], &[1, 1, 1]), "vertical, 1 loop, spans 1–3");
+        assert_eq!(label(&vertical, &[0.45, 0.1, 0.45], &[1, 3, 2]), "vertical, 1/2 loops, spans 1, 3");
+        assert_eq!(label(&[0.6, 0.0, 0.4, 0.0], &[1.0], &[3]), "vertical + longitudinal, 3 loops, span 1");
         assert_eq!(label(&[0.0, 0.0, 0.0, 1.0], &[], &[]), "torsional");
     }
 }

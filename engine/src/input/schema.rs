@@ -183,6 +183,11 @@ pub struct RawIce {
     /// CSV coefficient table of the iced section (path relative to the
     /// input file); default: round iced section, C_D = 1, no lift or moment.
     pub aero_table: Option<String>,
+    /// Orientation of the iced section's reference axis about the conductor
+    /// axis, in degrees, positive from downwind towards up (the sense of
+    /// the twist θ): the untwisted section in a horizontal wind sees
+    /// α = −orientation (default 0).
+    pub orientation: Option<f64>,
 }
 
 /// `[solver]`: Newton and load-stepping settings.

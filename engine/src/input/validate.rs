@@ -278,6 +278,17 @@ pub(super) fn validate(
         },
         None => None,
     };
+    let ice_orientation = match raw.load_case.ice.as_ref().and_then(|i| i.orientation) {
+        Some(a) if a.is_finite() && a.abs() <= 180.0 => a.to_radians(),
+        Some(a) => {
+            return Err(loc.error(
+                K::InvalidValue,
+                "load_case.ice.orientation",
+                format!("must be an angle in degrees between −180 and 180, got {a}"),
+            ))
+        }
+        None => 0.0,
+    };
     let wind = match &raw.load_case.wind {
         None => None,
         Some(w) => {
@@ -463,6 +474,7 @@ pub(super) fn validate(
             gravity,
             wind,
             iced_aero_table,
+            ice_orientation,
         },
         solver,
         screening,

@@ -100,12 +100,12 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         let ice_polar = spec.load_case.ice.map_or(0.0, |ice| ice.polar_inertia_per_length(c.diameter));
         let across = Vector3::z().cross(&direction);
         // Section of the load case: the iced table (or a round iced section), else the bare one.
-        let table = match spec.load_case.ice {
+        let (table, orientation) = match spec.load_case.ice {
             Some(ice) if ice.thickness > 0.0 => match &spec.load_case.iced_aero_table {
-                Some(t) => t.clone(),
-                None => crate::input::round_section(ice.iced_diameter(c.diameter)),
+                Some(t) => (t.clone(), spec.load_case.ice_orientation),
+                None => (crate::input::round_section(ice.iced_diameter(c.diameter)), 0.0),
             },
-            _ => c.aero_table.clone(),
+            _ => (c.aero_table.clone(), 0.0),
         };
         let first_element = elements.len();
         for k in 0..n_el {
@@ -130,7 +130,11 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
                 uses_rotation[ids[0]] = true;
                 uses_rotation[ids[1]] = true;
             }
-            aero.push(Some(ElementAero { table: table.clone(), uses_rotations: element.uses_rotations() }));
+            aero.push(Some(ElementAero {
+                table: table.clone(),
+                uses_rotations: element.uses_rotations(),
+                orientation,
+            }));
             elements.push(element);
         }
         // Weight of each element lumped half to each node (consistent with the chain).

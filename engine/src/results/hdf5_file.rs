@@ -172,10 +172,7 @@ impl ResultsWriter {
             "mass: shape^T M shape = 1 over the free DOF (M lumped, at the static state)",
         )?;
         let group_f64 = |name: &str, value: f64| {
-            g.new_attr::<f64>()
-                .create(name)
-                .and_then(|a| a.write_scalar(&value))
-                .map_err(|e| err(t, e))
+            g.new_attr::<f64>().create(name).and_then(|a| a.write_scalar(&value)).map_err(|e| err(t, e))
         };
         group_f64("shift", modes.shift)?;
         group_f64("stiffness_asymmetry", modes.stiffness_asymmetry)?;

@@ -29,7 +29,7 @@
 
 use faer::{Mat, MatRef, Side};
 
-use super::{check_input, normalise, residual_and_floor, EigenPairs, EigenSettings};
+use super::{check_input, normalise, residual_and_floor, too_many, EigenPairs, EigenSettings};
 use crate::{SolverError, SparseDirect, SparsityPattern};
 
 /// Ratio (relative to ε·n·max μ) under which μ counts as zero (λ infinite).
@@ -63,9 +63,11 @@ const ZERO_MU_FACTOR: f64 = 100.0;
 /// [`SolverError::InvalidSettings`] for invalid settings (see
 /// [`EigenSettings::validate`]), asymmetric K or M, a negative mass diagonal,
 /// `count` above the number of finite eigenvalues above σ, or a K that is not
-/// positive semi-definite; [`SolverError::Singular`] when K − σM is positive
-/// semi-definite but singular (σ is an eigenvalue, or K and M share a null
-/// vector); [`SolverError::NonFinite`] for NaN or infinite values.
+/// positive semi-definite; [`SolverError::Singular`] when K − σM factorises
+/// with a pivot ratio above [`SparseDirect::DEFAULT_SINGULARITY_THRESHOLD`]
+/// (σ at the lowest eigenvalue, or K and M share a null vector). A σ at a
+/// higher eigenvalue makes K − σM indefinite and is handled like any σ inside
+/// the spectrum: that eigenvalue, not strictly above σ, is not returned; [`SolverError::NonFinite`] for NaN or infinite values.
 ///
 /// # Panics
 /// If `k` or `m` does not have `pattern.nnz()` entries.
@@ -84,16 +86,22 @@ pub fn dense_shift_invert(
     let max_kii = (0..n).fold(0.0f64, |a, i| a.max(kd[(i, i)].abs()));
     let max_mii = (0..n).fold(0.0f64, |a, i| a.max(md[(i, i)]));
     if max_mii == 0.0 {
-        return Err(no_finite(settings.count));
+        return Err(too_many(settings.count));
+    }
+    // An equation with neither stiffness nor mass is singular at every shift.
+    if let Some(j) = (0..n).find(|&j| (0..n).all(|i| kd[(i, j)] == 0.0 && md[(i, j)] == 0.0)) {
+        return Err(SolverError::Singular { pivot: Some(j) });
     }
     let mut shifts = vec![sigma];
     if sigma > 0.0 {
         shifts.push(0.0);
     }
     shifts.push(sigma.min(0.0) - 1e-3 * max_kii.max(f64::MIN_POSITIVE) / max_mii);
+    let mut singular_at = None;
     for (attempt, &s0) in shifts.iter().enumerate() {
         let a = Mat::from_fn(n, n, |i, j| kd[(i, j)] - s0 * md[(i, j)]);
         let Ok(llt) = a.llt(Side::Lower) else {
+            singular_at = None;
             continue;
         };
         let l = llt.L();
@@ -109,26 +117,25 @@ pub fn dense_shift_invert(
             if attempt == 0 {
                 return Err(SolverError::Singular { pivot: Some(eq) });
             }
+            singular_at = Some(eq);
             continue;
         }
         return solve_factored(pattern, k, m, l, &md, s0, settings);
+    }
+    if let Some(eq) = singular_at {
+        // Positive semi-definite but singular at every shift: K and M share a
+        // null vector (a mechanism without mass).
+        return Err(SolverError::Singular { pivot: Some(eq) });
     }
     Err(SolverError::InvalidSettings {
         name: "shift",
         value: sigma,
         expected: "a shift with K − σM positive definite for the dense solver; \
                    K − σM could not be factorised even at a shift below zero, so K is \
-                   not positive semi-definite (use lanczos_shift_invert)",
+                   not positive semi-definite or K and M share a null vector (a \
+                   mechanism without mass); for an indefinite K − σM use \
+                   lanczos_shift_invert",
     })
-}
-
-fn no_finite(count: usize) -> SolverError {
-    SolverError::InvalidSettings {
-        name: "count",
-        value: count as f64,
-        expected: "at most the number of finite eigenvalues above the shift \
-                   (n minus the rank deficiency of M, minus those at or below σ)",
-    }
 }
 
 /// Dense copy of the values on `pattern`.
@@ -179,7 +186,7 @@ fn solve_factored(
         }
     }
     if chosen.len() < settings.count {
-        return Err(no_finite(settings.count));
+        return Err(too_many(settings.count));
     }
     let mut y = Mat::from_fn(n, chosen.len(), |r, c| u[(r, chosen[c].0)]);
     l.transpose().solve_upper_triangular_in_place(&mut y);

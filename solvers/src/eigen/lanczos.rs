@@ -1,14 +1,529 @@
-//! Shift-invert Lanczos (placeholder while the dense path lands).
+//! Shift-invert Lanczos with full reorthogonalisation and thick restarts.
+//!
+//! **Spectral transformation.** With $A = K - \sigma M$ factorised once by
+//! [`SparseDirect`] (one symbolic and one numeric factorisation: LLᵀ when
+//! σ is below the spectrum, LU with partial pivoting when $A$ is
+//! indefinite), the operator $\mathrm{Op} = A^{-1}M$ is self-adjoint in the
+//! M inner product $\langle x, y\rangle_M = x^\top M y$ and has the
+//! eigenpairs $(\mu, \varphi)$ with $\mu = 1/(\lambda - \sigma)$ (Ericsson &
+//! Ruhe 1980, "The spectral transformation Lanczos method for the numerical
+//! solution of large sparse generalized symmetric eigenvalue problems",
+//! Math. Comp. 35). The eigenvalues closest above σ are the largest μ, which
+//! Lanczos finds first; λ below σ give μ < 0 and are never wanted.
+//!
+//! **Iteration.** Lanczos in the M inner product with full
+//! reorthogonalisation: every new vector is orthogonalised against the
+//! locked vectors and the whole basis by classical Gram–Schmidt applied
+//! twice ("twice is enough", Parlett, "The Symmetric Eigenvalue Problem",
+//! §6.9, after Kahan). The projected matrix $H = V^\top M\,\mathrm{Op}\,V$ is
+//! taken from the Gram–Schmidt coefficients, so it is the actual Rayleigh
+//! quotient of the computed basis. When the basis is full it is thick
+//! restarted (Wu & Simon 2000, "Thick-restart Lanczos method for large
+//! symmetric eigenvalue problems", SIAM J. Matrix Anal. Appl. 22; for the
+//! symmetric case the same as Stewart's 2001 Krylov–Schur restart): the Ritz
+//! vectors of the largest Ritz values are kept (the wanted ones still
+//! unconverged plus half of the remaining room), with the residual vector
+//! as the next basis vector, and $H$ becomes diagonal plus one coupling row.
+//!
+//! **Acceptance and locking.** A Ritz pair is accepted on its *true*
+//! residual $\|K\varphi - \lambda M\varphi\| / (\|K\varphi\| + |\lambda|\|M\varphi\|)$
+//! with the original K and M, λ its Rayleigh quotient, when it is within
+//! [`EigenSettings::tolerance`] or within the rounding floor of evaluating the
+//! residual itself (≈ ε·‖K‖/(λ‖M‖); the lowest modes of a stiff model cannot
+//! do better). Accepted pairs are locked: removed from the active basis, kept
+//! as a set every new vector is orthogonalised against.
+//!
+//! **Missed copies of repeated eigenvalues.** A Krylov space from one start
+//! vector holds one direction of each eigenspace, so a second copy of a
+//! repeated eigenvalue appears only from rounding. When `count` pairs are
+//! locked the iteration therefore starts again from a fresh random vector,
+//! orthogonal to the locked ones, and stops only when the largest Ritz value
+//! of that new space has converged to an eigenvalue not below the largest
+//! locked one (or the space is exhausted). A smaller one found this way
+//! replaces the largest locked pair and the check repeats. Finally one
+//! Rayleigh–Ritz step on the span of the returned vectors makes them
+//! M-orthonormal to rounding.
+//!
+//! **Singular M (massless DOF).** Chosen approach: *no explicit
+//! condensation*; the spectral transformation with purification does the
+//! condensation implicitly. M is never inverted and the M inner product is
+//! only used on range(Op), where it is definite whenever K is positive
+//! definite on null(M) — the condition under which static condensation of
+//! the massless DOF exists: if $x = A^{-1}My$ and $Mx = 0$ then
+//! $x^\top K x = x^\top A x = x^\top M y = 0$. On range(Op), Op has exactly
+//! the finite eigenpairs of the pencil, the same as those of the statically
+//! condensed problem; the infinite eigenvalues (μ = 0) live in null(M) =
+//! null(Op). Three measures keep the vectors there: (1) every start vector
+//! (the seeded pseudo-random one and any fresh one) is passed through Op
+//! once, which removes its null(M) component; (2) accepted Ritz vectors are
+//! purified by the Ericsson–Ruhe correction $x = y + (\beta s_m/\theta)\,v_{m+1}
+//! = \mathrm{Op}\,y/\theta$, removing the null(M) component that rounding lets
+//! grow in the Lanczos vectors (Nour-Omid, Parlett, Ericsson & Jensen 1987,
+//! "How to implement the spectral transformation", Math. Comp. 48); (3) Ritz
+//! values μ ≤ 100·n·ε·max|μ| count as infinite λ and are discarded. When the
+//! Krylov space exhausts range(Op) (rank M vectors) before `count` pairs are
+//! found, there are fewer finite eigenvalues above σ than requested and
+//! [`SolverError::InvalidSettings`] on `count` is returned.
 
-use super::{EigenPairs, EigenSettings};
-use crate::{SolverError, SparsityPattern};
+use faer::{Mat, Side};
 
-/// Lowest `count` eigenpairs above σ by shift-invert Lanczos.
+use super::{check_input, normalise, residual_and_floor, too_many, EigenPairs, EigenSettings};
+use crate::{LinearSolver, SolverError, SparseDirect, SparsityPattern};
+
+/// Ritz values μ ≤ this · n · ε · max|μ| are taken as μ = 0 (infinite λ).
+const ZERO_MU_FACTOR: f64 = 100.0;
+/// A new vector keeping at most this fraction of its M-norm after
+/// orthogonalisation lies in the span (invariant subspace, or exhausted).
+const TINY: f64 = 1e3 * f64::EPSILON;
+/// Ritz pairs whose Ritz residual exceeds this fraction of |μ| are not
+/// worth a true-residual evaluation.
+const RITZ_SCREEN: f64 = 1e-3;
+/// Relative tie between a verified eigenvalue and the largest locked one.
+const TIE: f64 = 1e-8;
+/// Seed of the start vectors (deterministic runs).
+const SEED: u64 = 0x9e1a_2e5e_ed00_0001;
+/// In the verification phase, Ritz values are examined every this many steps.
+const CHECK_EVERY: usize = 5;
+
+/// Lowest `count` eigenpairs above σ of K φ = λ M φ by shift-invert Lanczos on
+/// the faer sparse factor of K − σM, in the M inner product, with full
+/// reorthogonalisation, thick restarts and acceptance on the true residual
+/// (see the module notes for the algorithm and the handling of a singular M).
+///
+/// `k` and `m` are values on the same `pattern` (both triangles, symmetric);
+/// M may be singular (positive semi-definite): it is never inverted and the
+/// modes of infinite λ are excluded. Runs are deterministic (seeded start
+/// vectors).
+///
+/// ```
+/// use glaze_solvers::{lanczos_shift_invert, Assembler, EigenSettings, SparsityPattern};
+/// // Fixed–fixed chain of 100 masses of 2 kg and 101 springs of 5e3 N/m:
+/// // ω_j² = (4k/m) sin²(jπ / 202).
+/// let n = 100;
+/// let mut groups = vec![vec![None, Some(0)], vec![Some(n - 1), None]];
+/// groups.extend((0..n - 1).map(|i| vec![Some(i), Some(i + 1)]));
+/// let pattern = SparsityPattern::from_dof_groups(n, groups.iter().map(|g| g.as_slice()));
+/// let asm = Assembler::new(&pattern, groups.iter().map(|g| g.as_slice()));
+/// let (mut k, mut m) = (vec![0.0; pattern.nnz()], vec![0.0; pattern.nnz()]);
+/// for g in 0..groups.len() {
+///     asm.add_matrix(g, &[5e3, -5e3, -5e3, 5e3], &mut k);
+/// }
+/// for d in pattern.diagonal_indices() {
+///     m[d] = 2.0;
+/// }
+/// let modes = lanczos_shift_invert(&pattern, &k, &m, &EigenSettings::new(5))?;
+/// for (j, lambda) in modes.values.iter().enumerate() {
+///     let s = ((j + 1) as f64 * std::f64::consts::PI / 202.0).sin();
+///     assert!((lambda - 4.0 * 5e3 / 2.0 * s * s).abs() < 1e-9 * lambda);
+/// }
+/// # Ok::<(), glaze_solvers::SolverError>(())
+/// ```
+///
+/// # Errors
+/// [`SolverError::InvalidSettings`] for invalid settings (see
+/// [`EigenSettings::validate`]), asymmetric K or M, a negative mass diagonal,
+/// or `count` above the number of finite eigenvalues above σ;
+/// [`SolverError::Singular`] when K − σM is singular (σ is an eigenvalue, a
+/// mechanism, or K and M share a null vector); [`SolverError::NonFinite`] for
+/// NaN or infinite values; [`SolverError::EigenNotConverged`] when the pairs
+/// are not all accepted within `max_restarts` restarts.
+///
+/// # Panics
+/// If `k` or `m` does not have `pattern.nnz()` entries.
 pub fn lanczos_shift_invert(
     pattern: &SparsityPattern,
     k: &[f64],
     m: &[f64],
     settings: &EigenSettings,
 ) -> Result<EigenPairs, SolverError> {
-    super::dense_shift_invert(pattern, k, m, settings)
+    let n = pattern.dim();
+    settings.validate(n)?;
+    check_input(pattern, k, m)?;
+    let a: Vec<f64> = k.iter().zip(m).map(|(k, m)| k - settings.shift * m).collect();
+    let mut solver = SparseDirect::new(pattern);
+    solver.factor(&a)?;
+    let mut run = Lanczos {
+        pattern,
+        k,
+        m,
+        n,
+        p: settings.subspace_size(n),
+        settings,
+        solver,
+        applications: 0,
+        rng: Lcg(SEED),
+        locked: Vec::new(),
+        basis: Vec::new(),
+        h: Mat::zeros(0, 0),
+        z: vec![0.0; n],
+        kx: vec![0.0; n],
+        mx: vec![0.0; n],
+    };
+    run.h = Mat::zeros(run.p, run.p);
+    let restarts = run.iterate()?;
+    run.finish(restarts)
+}
+
+/// 64-bit linear congruential generator (Knuth's MMIX constants) for the
+/// start vectors.
+struct Lcg(u64);
+
+impl Lcg {
+    /// Uniform in [−1, 1).
+    fn symmetric(&mut self) -> f64 {
+        self.0 = self.0.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(1_442_695_040_888_963_407);
+        2.0 * ((self.0 >> 11) as f64 * (1.0 / (1u64 << 53) as f64)) - 1.0
+    }
+}
+
+/// An accepted eigenpair.
+struct Locked {
+    /// Rayleigh quotient λ = φᵀKφ (φ M-normalised), rad²/s².
+    lambda: f64,
+    /// The Ritz vector in the span of the basis (M-orthogonal to the active
+    /// basis; used for orthogonalisation).
+    y: Vec<f64>,
+    /// The purified, M-normalised eigenvector returned.
+    x: Vec<f64>,
+}
+
+/// The examination of a Rayleigh–Ritz step.
+struct Examined {
+    /// Ritz indices locked in this step.
+    locked: Vec<usize>,
+    /// The largest active Ritz value is converged to an eigenvalue not below
+    /// the largest locked one, or no positive Ritz value is left.
+    verified: bool,
+    /// Every Ritz pair with μ > 0 was accepted.
+    all_positive_accepted: bool,
+}
+
+struct Lanczos<'a> {
+    pattern: &'a SparsityPattern,
+    k: &'a [f64],
+    m: &'a [f64],
+    n: usize,
+    /// Basis size, locked vectors included.
+    p: usize,
+    settings: &'a EigenSettings,
+    solver: SparseDirect,
+    applications: usize,
+    rng: Lcg,
+    /// Accepted pairs, ascending λ, at most `count`.
+    locked: Vec<Locked>,
+    /// Active M-orthonormal basis; the last vector's column of `h` is pending
+    /// until it is expanded.
+    basis: Vec<Vec<f64>>,
+    /// Projected matrix VᵀM·Op·V, upper triangle (columns from Gram–Schmidt).
+    h: Mat<f64>,
+    z: Vec<f64>,
+    kx: Vec<f64>,
+    mx: Vec<f64>,
+}
+
+impl Lanczos<'_> {
+    /// out = (K − σM)⁻¹ M x.
+    fn apply(&mut self, x: &[f64]) -> Result<Vec<f64>, SolverError> {
+        let mut out = vec![0.0; self.n];
+        self.pattern.mul_vec(self.m, x, &mut out);
+        self.solver.solve_in_place(&mut out)?;
+        self.applications += 1;
+        Ok(out)
+    }
+
+    /// Classical Gram–Schmidt twice in the M inner product against the locked
+    /// vectors and the active basis; adds the basis coefficients to `coeffs`.
+    /// Returns the M-norms of `w` before and after.
+    fn orthogonalise(&mut self, w: &mut [f64], mut coeffs: Option<&mut [f64]>) -> (f64, f64) {
+        self.pattern.mul_vec(self.m, w, &mut self.z);
+        let before = dot(w, &self.z).max(0.0).sqrt();
+        for pass in 0..2 {
+            if pass > 0 {
+                self.pattern.mul_vec(self.m, w, &mut self.z);
+            }
+            let cl: Vec<f64> = self.locked.iter().map(|l| dot(&l.y, &self.z)).collect();
+            let cb: Vec<f64> = self.basis.iter().map(|v| dot(v, &self.z)).collect();
+            for (l, c) in self.locked.iter().zip(&cl) {
+                axpy(-c, &l.y, w);
+            }
+            for (v, c) in self.basis.iter().zip(&cb) {
+                axpy(-c, v, w);
+            }
+            if let Some(h) = coeffs.as_deref_mut() {
+                for (h, c) in h.iter_mut().zip(&cb) {
+                    *h += c;
+                }
+            }
+        }
+        self.pattern.mul_vec(self.m, w, &mut self.z);
+        (before, dot(w, &self.z).max(0.0).sqrt())
+    }
+
+    /// A pseudo-random vector passed once through Op (purified of null(M)),
+    /// M-orthonormalised against the locked vectors and the basis; `None` if
+    /// nothing is left (range(Op) is spanned).
+    fn fresh_vector(&mut self) -> Result<Option<Vec<f64>>, SolverError> {
+        let r: Vec<f64> = (0..self.n).map(|_| self.rng.symmetric()).collect();
+        let mut w = self.apply(&r)?;
+        let (before, after) = self.orthogonalise(&mut w, None);
+        if !(after > TINY * before) {
+            return Ok(None);
+        }
+        w.iter_mut().for_each(|v| *v /= after);
+        Ok(Some(w))
+    }
+
+    /// Applies Op to the last basis vector, fills its column of `h`, and
+    /// returns the next basis vector (None when the space is exhausted) and
+    /// its coupling β (0 after an invariant subspace, when the next vector is
+    /// a fresh one).
+    fn expand(&mut self) -> Result<(Option<Vec<f64>>, f64), SolverError> {
+        let j = self.basis.len() - 1;
+        let mut w = self.apply(&self.basis[j].clone())?;
+        let mut coeffs = vec![0.0; j + 1];
+        let (before, after) = self.orthogonalise(&mut w, Some(&mut coeffs));
+        for (i, c) in coeffs.iter().enumerate() {
+            self.h[(i, j)] = *c;
+        }
+        if self.basis.len() + self.locked.len() >= self.n {
+            return Ok((None, 0.0));
+        }
+        if !(after > TINY * before) {
+            // Invariant subspace: continue with a fresh direction.
+            return Ok((self.fresh_vector()?, 0.0));
+        }
+        w.iter_mut().for_each(|v| *v /= after);
+        Ok((Some(w), after))
+    }
+
+    /// Ritz values (ascending) and vectors (columns) of the projected matrix.
+    fn ritz(&self) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
+        let len = self.basis.len();
+        let hs = Mat::from_fn(len, len, |i, j| if i <= j { self.h[(i, j)] } else { self.h[(j, i)] });
+        let evd = hs
+            .self_adjoint_eigen(Side::Lower)
+            .map_err(|e| SolverError::Faer(format!("Lanczos Rayleigh–Ritz eigen solver: {e:?}")))?;
+        let theta = evd.S().column_vector().iter().copied().collect();
+        Ok((theta, evd.U().to_owned()))
+    }
+
+    /// Σ_l s[l, i] · basis[l].
+    fn combine(&self, s: &Mat<f64>, i: usize) -> Vec<f64> {
+        let mut y = vec![0.0; self.n];
+        for (l, v) in self.basis.iter().enumerate() {
+            axpy(s[(l, i)], v, &mut y);
+        }
+        y
+    }
+
+    /// Tests the leading Ritz pairs on their true residual and locks the accepted ones.
+    fn examine(
+        &mut self,
+        theta: &[f64],
+        s: &Mat<f64>,
+        next: Option<&[f64]>,
+        beta: f64,
+        verifying: bool,
+    ) -> Examined {
+        let len = self.basis.len();
+        let count = self.settings.count;
+        let mut order: Vec<usize> = (0..len).collect();
+        order.sort_by(|&a, &b| theta[b].total_cmp(&theta[a]));
+        let scale = theta.iter().fold(0.0f64, |a, t| a.max(t.abs()));
+        let scale = self.locked.iter().fold(scale, |a, l| a.max(1.0 / (l.lambda - self.settings.shift)));
+        let cutoff = ZERO_MU_FACTOR * self.n as f64 * f64::EPSILON * scale;
+        let positive = order.iter().filter(|&&i| theta[i] > cutoff).count();
+        let mut out = Examined { locked: Vec::new(), verified: false, all_positive_accepted: true };
+        let candidates = count - self.locked.len() + 1;
+        let mut accepted = 0;
+        for (rank, &i) in order.iter().take(candidates).enumerate() {
+            if theta[i] <= cutoff {
+                if rank == 0 {
+                    out.verified = true;
+                }
+                break;
+            }
+            let coupling = beta * s[(len - 1, i)];
+            if coupling.abs() > RITZ_SCREEN * theta[i] {
+                continue;
+            }
+            // Ericsson–Ruhe purification: x = y + (β s_m / θ) v_next = Op y / θ.
+            let y = self.combine(s, i);
+            let mut x = y.clone();
+            if let Some(next) = next {
+                axpy(coupling / theta[i], next, &mut x);
+            }
+            self.pattern.mul_vec(self.m, &x, &mut self.mx);
+            let norm = dot(&x, &self.mx).sqrt();
+            x.iter_mut().for_each(|v| *v /= norm);
+            self.pattern.mul_vec(self.k, &x, &mut self.kx);
+            let lambda = dot(&x, &self.kx);
+            let (res, floor) =
+                residual_and_floor(self.pattern, self.k, self.m, lambda, &x, &mut self.kx, &mut self.mx);
+            if !(res <= self.settings.tolerance.max(floor)) || lambda <= self.settings.shift {
+                continue;
+            }
+            accepted += 1;
+            let largest = self.locked.last().map_or(f64::INFINITY, |l| l.lambda);
+            if self.locked.len() < count || lambda < largest - TIE * largest.abs() {
+                if self.locked.len() == count {
+                    self.locked.pop();
+                }
+                let at = self.locked.partition_point(|l| l.lambda <= lambda);
+                self.locked.insert(at, Locked { lambda, y, x });
+                out.locked.push(i);
+            } else if rank == 0 && verifying {
+                out.verified = true;
+            }
+        }
+        out.all_positive_accepted = accepted == positive;
+        out
+    }
+
+    /// Thick restart: keeps the largest non-locked Ritz vectors and the next vector.
+    /// The coupling row β·s_m of the kept vectors enters `h` through the
+    /// Gram–Schmidt column of `next` when it is expanded.
+    fn restart(&mut self, theta: &[f64], s: &Mat<f64>, next: Vec<f64>, locked_now: &[usize]) {
+        let len = self.basis.len();
+        let cap = self.p - self.locked.len();
+        let need = self.settings.count - self.locked.len();
+        let mut order: Vec<usize> = (0..len).filter(|i| !locked_now.contains(i)).collect();
+        order.sort_by(|&a, &b| theta[b].total_cmp(&theta[a]));
+        let keep = (need + (cap.saturating_sub(need)) / 2).max(1).min(cap.saturating_sub(1)).min(order.len());
+        let mut basis: Vec<Vec<f64>> = order[..keep].iter().map(|&i| self.combine(s, i)).collect();
+        basis.push(next);
+        self.basis = basis;
+        self.h.fill(0.0);
+        for (a, &i) in order[..keep].iter().enumerate() {
+            self.h[(a, a)] = theta[i];
+        }
+    }
+
+    /// The main loop; returns the number of restarts.
+    fn iterate(&mut self) -> Result<usize, SolverError> {
+        let count = self.settings.count;
+        let mut restarts = 0;
+        let mut verifying = false;
+        let not_converged =
+            |found: usize, restarts: usize| SolverError::EigenNotConverged { found, wanted: count, restarts };
+        match self.fresh_vector()? {
+            Some(v) => self.basis.push(v),
+            None => return Err(too_many(count)),
+        }
+        loop {
+            let cap = self.p - self.locked.len();
+            let (next, beta) = self.expand()?;
+            let exhausted = next.is_none();
+            let full = self.basis.len() >= cap;
+            let check_due =
+                verifying && self.basis.len() >= 2 * CHECK_EVERY && self.basis.len() % CHECK_EVERY == 0;
+            if !(full || exhausted || check_due) {
+                self.basis.push(next.expect("not exhausted"));
+                continue;
+            }
+            let (theta, s) = self.ritz()?;
+            let ex = self.examine(&theta, &s, next.as_deref(), beta, verifying);
+            let done_locking = self.locked.len() == count;
+            if done_locking && (exhausted || (verifying && ex.verified && ex.locked.is_empty())) {
+                return Ok(restarts);
+            }
+            if exhausted {
+                return Err(if ex.all_positive_accepted {
+                    too_many(count)
+                } else {
+                    not_converged(self.locked.len(), restarts)
+                });
+            }
+            let next = next.expect("not exhausted");
+            if done_locking && (!verifying || !ex.locked.is_empty()) {
+                // Start the check for missed eigenvalues from a fresh vector.
+                verifying = true;
+                restarts += 1;
+                if restarts > self.settings.max_restarts {
+                    return Err(not_converged(self.locked.len(), restarts - 1));
+                }
+                self.basis.clear();
+                self.h.fill(0.0);
+                match self.fresh_vector()? {
+                    Some(v) => self.basis.push(v),
+                    None => return Ok(restarts),
+                }
+                continue;
+            }
+            if full || !ex.locked.is_empty() {
+                restarts += 1;
+                if restarts > self.settings.max_restarts {
+                    return Err(not_converged(self.locked.len(), restarts - 1));
+                }
+                self.restart(&theta, &s, next, &ex.locked);
+            } else {
+                self.basis.push(next);
+            }
+        }
+    }
+
+    /// Rayleigh–Ritz on the span of the locked vectors (M-orthonormal to
+    /// rounding), sign convention, residuals.
+    fn finish(mut self, restarts: usize) -> Result<EigenPairs, SolverError> {
+        let c = self.locked.len();
+        let x: Vec<Vec<f64>> = self.locked.iter().map(|l| l.x.clone()).collect();
+        let mut kx = Vec::with_capacity(c);
+        let mut mx = Vec::with_capacity(c);
+        for v in &x {
+            self.pattern.mul_vec(self.k, v, &mut self.kx);
+            self.pattern.mul_vec(self.m, v, &mut self.mx);
+            kx.push(self.kx.clone());
+            mx.push(self.mx.clone());
+        }
+        let g = Mat::from_fn(c, c, |i, j| 0.5 * (dot(&x[i], &mx[j]) + dot(&x[j], &mx[i])));
+        let kp = Mat::from_fn(c, c, |i, j| 0.5 * (dot(&x[i], &kx[j]) + dot(&x[j], &kx[i])));
+        let llt = g
+            .llt(Side::Lower)
+            .map_err(|e| SolverError::Faer(format!("locked eigenvectors are not M-independent: {e:?}")))?;
+        let l = llt.L();
+        let mut t = kp.clone();
+        l.solve_lower_triangular_in_place(&mut t);
+        let mut cmat = t.transpose().to_owned();
+        l.solve_lower_triangular_in_place(&mut cmat);
+        let cmat = Mat::from_fn(c, c, |i, j| 0.5 * (cmat[(i, j)] + cmat[(j, i)]));
+        let evd = cmat
+            .self_adjoint_eigen(Side::Lower)
+            .map_err(|e| SolverError::Faer(format!("final Rayleigh–Ritz eigen solver: {e:?}")))?;
+        let mut q = evd.U().to_owned();
+        l.transpose().solve_upper_triangular_in_place(&mut q);
+        let values: Vec<f64> = evd.S().column_vector().iter().copied().collect();
+        let mut pairs = EigenPairs {
+            values: Vec::with_capacity(c),
+            vectors: Vec::with_capacity(c),
+            residuals: Vec::with_capacity(c),
+            restarts,
+            operator_applications: self.applications,
+            factor_stats: self.solver.stats(),
+        };
+        for (a, &lambda) in values.iter().enumerate() {
+            let mut phi = vec![0.0; self.n];
+            for (b, v) in x.iter().enumerate() {
+                axpy(q[(b, a)], v, &mut phi);
+            }
+            self.pattern.mul_vec(self.m, &phi, &mut self.mx);
+            normalise(&mut phi, &self.mx);
+            let (res, _) =
+                residual_and_floor(self.pattern, self.k, self.m, lambda, &phi, &mut self.kx, &mut self.mx);
+            pairs.values.push(lambda);
+            pairs.vectors.push(phi);
+            pairs.residuals.push(res);
+        }
+        Ok(pairs)
+    }
+}
+
+fn dot(a: &[f64], b: &[f64]) -> f64 {
+    a.iter().zip(b).map(|(x, y)| x * y).sum()
+}
+
+/// y += a x.
+fn axpy(a: f64, x: &[f64], y: &mut [f64]) {
+    for (y, x) in y.iter_mut().zip(x) {
+        *y += a * x;
+    }
 }

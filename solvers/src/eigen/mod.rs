@@ -210,10 +210,7 @@ fn residual_and_floor(
     }
     let denom = k2.sqrt() + lambda.abs() * m2.sqrt();
     let n = pattern.dim();
-    let max_col = (0..n)
-        .map(|j| pattern.col_ptr()[j + 1] - pattern.col_ptr()[j])
-        .max()
-        .unwrap_or(0);
+    let max_col = (0..n).map(|j| pattern.col_ptr()[j + 1] - pattern.col_ptr()[j]).max().unwrap_or(0);
     let bound = (max_col as f64 + 2.0)
         * f64::EPSILON
         * (abs_mul_norm(pattern, k, phi) + lambda.abs() * abs_mul_norm(pattern, m, phi));
@@ -237,17 +234,24 @@ fn abs_mul_norm(pattern: &SparsityPattern, values: &[f64], x: &[f64]) -> f64 {
 }
 
 /// Scales φ to φᵀMφ = 1 (with `mx` = Mφ before scaling) and makes its
-/// largest-magnitude component positive.
+/// largest-magnitude component positive (the first of those within a relative
+/// 1e-8 of the largest, so symmetric modes get a reproducible sign).
 fn normalise(phi: &mut [f64], mx: &[f64]) {
     let norm = phi.iter().zip(mx).map(|(a, b)| a * b).sum::<f64>().sqrt();
-    let mut big = 0.0f64;
-    for &v in phi.iter() {
-        if v.abs() > big.abs() {
-            big = v;
-        }
-    }
+    let max = phi.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+    let big = phi.iter().copied().find(|v| v.abs() >= (1.0 - 1e-8) * max).unwrap_or(0.0);
     let scale = if big < 0.0 { -1.0 / norm } else { 1.0 / norm };
     for v in phi.iter_mut() {
         *v *= scale;
+    }
+}
+
+/// `count` exceeds the finite eigenvalues above the shift.
+fn too_many(count: usize) -> SolverError {
+    SolverError::InvalidSettings {
+        name: "count",
+        value: count as f64,
+        expected: "at most the number of finite eigenvalues above the shift \
+                   (n minus the rank deficiency of M, minus those at or below σ)",
     }
 }
