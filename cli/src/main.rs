@@ -51,6 +51,15 @@ enum Command {
         #[arg(long, value_enum, default_value = "auto")]
         method: commands::SolverChoice,
     },
+    /// Static state, then the nonlinear time simulation of `[dynamics]`;
+    /// histories are streamed to the results file.
+    Run {
+        /// Input TOML file (with `[dynamics]`).
+        file: PathBuf,
+        /// Results file to write (HDF5).
+        #[arg(long, short)]
+        out: PathBuf,
+    },
     /// Galloping-onset screening: modes and their aerodynamic damping over
     /// the wind speeds of `[screening]`, with the onset speed of each mode.
     Screen {
@@ -77,6 +86,7 @@ fn main() -> ExitCode {
         Command::Modes { file, count, out, method } => {
             commands::run_modes(file, *count, *method, out, cli.quiet)
         }
+        Command::Run { .. } => unimplemented!(),
         Command::Screen { file, format } => commands::run_screen(file, *format),
     };
     match result {

@@ -21,6 +21,7 @@ mod link;
 pub mod so3;
 #[cfg(test)]
 mod test_util;
+mod torsion_restraint;
 mod truss;
 
 pub use cable::Cable;
@@ -28,4 +29,5 @@ pub use corotational_beam::{BeamSection, CorotationalBeam};
 pub use element::{Element, ElementContext, ElementOutput, NodeState};
 pub use error::ElementError;
 pub use link::Link;
+pub use torsion_restraint::TorsionRestraint;
 pub use truss::TrussSection;

@@ -145,4 +145,50 @@ pub struct SectionSpec {
     pub solver: SolverSpec,
     /// Screening settings, when given.
     pub screening: Option<ScreeningSpec>,
+    /// Time simulation settings, when given.
+    pub dynamics: Option<DynamicsSpec>,
+}
+
+/// Integration scheme.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum SchemeSpec {
+    /// HHT-α with α in [−1/3, 0].
+    Hht(f64),
+    /// Generalised-α with ρ∞ in [0, 1].
+    GeneralizedAlpha(f64),
+}
+
+/// Rayleigh damping C = a0 M + a1 K.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum DampingSpec {
+    /// Fit a0, a1 to two modes (1-based) and ratios (Clough & Penzien).
+    Fit {
+        /// Mode numbers.
+        modes: [usize; 2],
+        /// Damping ratios.
+        ratios: [f64; 2],
+    },
+    /// Given coefficients a0 (1/s) and a1 (s).
+    Coefficients(f64, f64),
+}
+
+/// Time simulation settings.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DynamicsSpec {
+    /// Simulated time, in s.
+    pub duration: f64,
+    /// Time step, in s.
+    pub time_step: f64,
+    /// Output interval, in s.
+    pub output_interval: f64,
+    /// Scheme.
+    pub scheme: SchemeSpec,
+    /// Modified Newton.
+    pub modified_newton: bool,
+    /// Wind ramp time, in s.
+    pub wind_ramp: f64,
+    /// Damping.
+    pub damping: DampingSpec,
+    /// `(mode, amplitude m)` of the initial perturbation.
+    pub perturbation: Option<(usize, f64)>,
 }

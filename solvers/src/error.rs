@@ -114,6 +114,74 @@ pub enum SolverError {
         /// Thick restarts performed.
         restarts: usize,
     },
+    /// The Newton iterations of one time step did not reach the tolerances
+    /// within the allowed iterations.
+    #[error(
+        "Newton iterations of the time step from t = {time} s (Δt = {dt:.3e} s) did not converge \
+         after {iterations} iterations (relative out-of-balance {residual:.3e}, largest at \
+         equation {worst_dof})"
+    )]
+    StepNotConverged {
+        /// Start time t_n of the step, s.
+        time: f64,
+        /// Step size tried, s.
+        dt: f64,
+        /// Newton iterations performed.
+        iterations: usize,
+        /// Last relative residual of the step (dimensionless; see the force
+        /// scale of the integrator).
+        residual: f64,
+        /// Equation with the largest out-of-balance at the last iteration.
+        worst_dof: usize,
+    },
+    /// The model could not be evaluated at a trial state of a time step.
+    #[error("the model could not be evaluated at time t = {time} s: {message}")]
+    EvaluationAtTime {
+        /// Time of the trial state, s.
+        time: f64,
+        /// What the model reported.
+        message: String,
+    },
+    /// Time integration cannot go on: a step failed even when cut back to
+    /// the minimum step. The integrator is left at the last converged state.
+    #[error(
+        "time integration stopped at t = {time} s: the time step failed even at Δt = {dt:.3e} s \
+         and cannot be cut back below the minimum step{}; the motion may have become unstable \
+         (an amplitude growing without bound, a cable going slack and snapping taut), the model \
+         may be wrong, or the minimum step is too large. Last failure: {last}",
+        match (worst_dof, residual.is_finite()) {
+            (Some(d), true) => format!(" (relative out-of-balance {residual:.3e}, largest at equation {d})"),
+            _ => String::new(),
+        }
+    )]
+    StepFailed {
+        /// Last converged time t_n, s (where the state is left).
+        time: f64,
+        /// Smallest step size tried, s (halving it would fall below `min_dt`).
+        dt: f64,
+        /// Equation with the largest out-of-balance at the last iteration of
+        /// the last attempt; `None` when that attempt failed before a residual
+        /// was computed (e.g. the model could not be evaluated).
+        worst_dof: Option<usize>,
+        /// Relative residual at the last iteration of the last attempt
+        /// (dimensionless); NaN when none was computed.
+        residual: f64,
+        /// The failure of the last attempt. Part of the message, so
+        /// deliberately not also a `source()`.
+        last: Box<SolverError>,
+    },
+    /// The mass matrix is singular, so the initial acceleration
+    /// M a₀ = −C v₀ − g₀ cannot be solved.
+    #[error(
+        "the mass matrix is singular{}: every equation needs mass or rotational inertia to start \
+         a time integration from the equation of motion; give the DOF inertia, or start from a \
+         known initial acceleration",
+        match pivot { Some(p) => format!(" near equation {p}"), None => String::new() }
+    )]
+    SingularMass {
+        /// Equation where the singularity showed, if located.
+        pivot: Option<usize>,
+    },
     /// faer reported a failure that is not a property of the matrix (for
     /// example an allocation failure).
     #[error("sparse linear algebra failure in faer: {0}")]
@@ -123,6 +191,8 @@ pub enum SolverError {
 impl SolverError {
     /// Whether a smaller load step may cure this failure. Load stepping cuts
     /// back on these and gives up at once on the others.
+    /// Time integration cuts its step back on the same errors (and on
+    /// `StepNotConverged`, `EvaluationAtTime`).
     pub fn is_recoverable(&self) -> bool {
         matches!(
             self,
@@ -130,6 +200,8 @@ impl SolverError {
                 | SolverError::Diverged { .. }
                 | SolverError::Evaluation { .. }
                 | SolverError::NonFinite { .. }
+                | SolverError::StepNotConverged { .. }
+                | SolverError::EvaluationAtTime { .. }
         )
     }
 }

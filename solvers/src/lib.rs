@@ -12,6 +12,10 @@
 //! - [`newton_solve`] — Newton–Raphson at a fixed load factor λ on a
 //!   [`NonlinearSystem`]; [`solve_load_path`] — λ from 0 to 1 with automatic
 //!   cut-back and regrowth.
+//! - [`Integrator`] — implicit time integration of a [`SecondOrderSystem`]
+//!   $M a + C v + g(q, v, t) = 0$ by HHT-α, generalised-α or Newmark
+//!   ([`Scheme`]), Newton per step (optionally modified Newton reusing the
+//!   factor), automatic step cut-back and regrowth.
 //!
 //! Units are SI throughout: forces in N (moments N·m), displacements in m
 //! (rotations rad); load factors and tolerances are dimensionless.
@@ -42,6 +46,7 @@
 // maps) by the same position; index loops mirror the CSC algorithms.
 #![allow(clippy::needless_range_loop)]
 
+mod dynamics;
 mod eigen;
 mod error;
 mod linear;
@@ -51,6 +56,10 @@ mod sparse;
 #[cfg(test)]
 mod test_util;
 
+pub use dynamics::{
+    AlphaParameters, IntegrationStats, Integrator, IntegratorSettings, Predictor, Scheme, SecondOrderSystem,
+    StepReport,
+};
 pub use eigen::{dense_shift_invert, lanczos_shift_invert, EigenPairs, EigenSettings};
 pub use error::{EvalError, SolverError};
 pub use linear::{FactorStats, Factorisation, LinearSolver, SparseDirect};

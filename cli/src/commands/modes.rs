@@ -57,11 +57,12 @@ pub fn run_modes(
         let model = model::build(&spec, &registry)?;
         let dofs = model.dofs.len();
         if count == 0 || count > dofs {
+            let asked = if count == 0 { "no modes".to_string() } else { format!("{count} modes") };
             return Err(count_error(
                 file,
                 format!(
-                    "--count {count} asks for {count} modes, but the model has {dofs} free degrees \
-                     of freedom; ask for between 1 and {dofs}"
+                    "asks for {asked}, but the model has {dofs} free degrees of freedom; \
+                     ask for between 1 and {dofs}"
                 ),
             ));
         }
@@ -71,9 +72,7 @@ pub fn run_modes(
         writer.write_static(&model, &stat, &spec.load_case.name)?;
         let settings = ModalSettings { method: method.into(), ..ModalSettings::new(count) };
         let modes = run_modal(&model, &stat, &settings).map_err(|e| match e {
-            ModalError::TooManyModes { .. } | ModalError::NoModes => {
-                count_error(file, format!("--count {count}: {e}"))
-            }
+            ModalError::TooManyModes { .. } | ModalError::NoModes => count_error(file, e.to_string()),
             e => GlazeError::from(e),
         })?;
         writer.write_modes(&model, &modes)?;

@@ -2,6 +2,7 @@
 
 pub mod modal;
 pub mod mode_shape;
+pub mod rayleigh;
 pub mod screening;
 mod static_stage;
 mod static_system;

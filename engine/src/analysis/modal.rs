@@ -257,13 +257,24 @@ impl Linearisation {
         self.dim() - self.massless_dofs
     }
 
-    /// σ = −10⁻⁶ · max diag(K) / max diag(M), rad²/s²: far below the lowest
-    /// ω² of a stable structure yet small against the stiffness scale, so
-    /// K − σM is positive definite and well conditioned.
+    /// σ = −10⁻⁶ · max diag(K) / max diag(M) over the translational DOF
+    /// (N/m over kg, so that rotary terms with other units do not mix in;
+    /// over all DOF if no translation carries mass), in rad²/s²: below the
+    /// lowest ω² of a stable structure yet small against the stiffness
+    /// scale, so K − σM is positive definite and well conditioned.
     pub fn default_shift(&self) -> f64 {
         let diag = self.pattern.diagonal_indices();
-        let kmax = diag.iter().fold(0.0_f64, |m, &d| m.max(self.stiffness[d].abs()));
-        let mmax = diag.iter().fold(0.0_f64, |m, &d| m.max(self.mass[d]));
+        let translations: Vec<usize> = self
+            .equations
+            .iter()
+            .enumerate()
+            .filter_map(|(i, e)| e.filter(|_| i % DOF_PER_NODE < 3))
+            .filter(|&e| self.mass[diag[e]] > 0.0)
+            .collect();
+        let chosen: Vec<usize> =
+            if translations.is_empty() { (0..self.dim()).collect() } else { translations };
+        let kmax = chosen.iter().fold(0.0_f64, |m, &e| m.max(self.stiffness[diag[e]].abs()));
+        let mmax = chosen.iter().fold(0.0_f64, |m, &e| m.max(self.mass[diag[e]]));
         if kmax > 0.0 && mmax > 0.0 {
             -1e-6 * kmax / mmax
         } else {
@@ -367,7 +378,8 @@ pub struct ModalResult {
     /// Share of modal kinetic energy `[mode][class]`, classes in
     /// [`ENERGY_CLASSES`] order, each row summing to 1.
     pub energy_share: Vec<[f64; 4]>,
-    /// Share of modal kinetic energy per span `[mode][span]`, summing to 1.
+    /// Share of modal kinetic energy per span `[mode][span]` (summing to 1
+    /// when every node belongs to a span, as in models built from a section).
     pub span_share: Vec<Vec<f64>>,
     /// Loops of the dominant component `[mode][span]`.
     pub loops: Vec<Vec<usize>>,
@@ -417,13 +429,14 @@ pub fn describe(model: &Model, lin: &Linearisation, modes: &ModeSet, frames: &[N
             }
         }
         let shares = mode_shape::normalise(sum);
-        let total: f64 = sum.iter().map(|p| p.max(0.0)).sum();
+        // Node totals φₐᵀMₐₐφₐ ≥ 0 (the class parts summed before any clamping).
+        let node_total: Vec<f64> = per_node.iter().map(|e| e.iter().sum::<f64>().max(0.0)).collect();
+        let total: f64 = node_total.iter().sum();
         let spans: Vec<f64> = model
             .spans
             .iter()
             .map(|s| {
-                let e: f64 =
-                    s.nodes.iter().map(|&n| per_node[n].iter().map(|p| p.max(0.0)).sum::<f64>()).sum();
+                let e: f64 = s.nodes.iter().map(|&n| node_total[n]).sum();
                 if total > 0.0 {
                     e / total
                 } else {

@@ -33,6 +33,59 @@ pub struct RawInput {
     pub solver: RawSolver,
     /// Galloping-onset screening (needed by `glaze screen`).
     pub screening: Option<RawScreening>,
+    /// Time simulation (needed by `glaze run`).
+    pub dynamics: Option<RawDynamics>,
+}
+
+/// `[dynamics]`: nonlinear time simulation from the static state.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawDynamics {
+    /// Simulated time, in s.
+    pub duration: f64,
+    /// Time step, in s.
+    pub time_step: f64,
+    /// Interval between recorded states, in s (at least the time step; default the time step).
+    pub output_interval: Option<f64>,
+    /// `hht` (default) or `generalized_alpha`.
+    pub scheme: Option<String>,
+    /// HHT-α parameter in [−1/3, 0] (default −0.05).
+    pub alpha: Option<f64>,
+    /// Generalised-α spectral radius at infinite frequency in [0, 1] (default 0.8).
+    pub rho_inf: Option<f64>,
+    /// Reuse the factorisation while Newton converges fast (default true).
+    pub modified_newton: Option<bool>,
+    /// Time over which the mean wind rises smoothly from zero, in s (default 0:
+    /// the run starts from the static state in the full mean wind).
+    pub wind_ramp: Option<f64>,
+    /// Linear (Rayleigh) damping.
+    pub damping: Option<RawDamping>,
+    /// Initial perturbation in a mode.
+    pub perturbation: Option<RawPerturbation>,
+}
+
+/// `[dynamics.damping]`: Rayleigh damping, fitted or given.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawDamping {
+    /// Two mode numbers (1-based) to fit to, with `ratios`.
+    pub modes: Option<[usize; 2]>,
+    /// Damping ratios at those modes.
+    pub ratios: Option<[f64; 2]>,
+    /// Mass-proportional coefficient a0, in 1/s (instead of a fit).
+    pub mass_coefficient: Option<f64>,
+    /// Stiffness-proportional coefficient a1, in s (instead of a fit).
+    pub stiffness_coefficient: Option<f64>,
+}
+
+/// `[dynamics.perturbation]`: initial displacement along a mode.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawPerturbation {
+    /// Mode number (1-based, by frequency, about the static state).
+    pub mode: usize,
+    /// Largest translational displacement of the perturbation, in m.
+    pub amplitude: f64,
 }
 
 /// `[glaze]`: schema version and a free title.

@@ -6,7 +6,8 @@ use super::Locator;
 use crate::error::{InputError, InputErrorKind as K};
 use crate::registry::ElementRegistry;
 use crate::spec::{
-    Conductor, LoadCase, ScreeningSpec, SectionSpec, SolverSpec, SpanSpec, StringingTarget, Support, WindSpec,
+    Conductor, DampingSpec, DynamicsSpec, LoadCase, SchemeSpec, ScreeningSpec, SectionSpec, SolverSpec,
+    SpanSpec, StringingTarget, Support, WindSpec,
 };
 use glaze_aero::ice::GLAZE_ICE_DENSITY;
 use glaze_aero::{CoefficientTable, MeanWind, RadialIce, TableOptions, WindProfile, ISA_AIR_DENSITY};
@@ -418,6 +419,10 @@ pub(super) fn validate(
             Some(ScreeningSpec { wind_speeds: speeds.clone(), structural_damping: xi, modes })
         }
     };
+    let dynamics = match &raw.dynamics {
+        None => None,
+        Some(d) => Some(validate_dynamics(d, loc)?),
+    };
     let gravity = match raw.load_case.gravity {
         Some(g) => positive(loc, "load_case.gravity", g, "m/s²")?,
         None => STANDARD_GRAVITY,
@@ -478,5 +483,145 @@ pub(super) fn validate(
         },
         solver,
         screening,
+        dynamics,
+    })
+}
+
+/// Largest number of time steps of one run: beyond it a run is a typing
+/// error rather than a study (common practice: 1e9 steps of 0.01 s is
+/// over 100 days of simulated time).
+const MAX_STEPS: f64 = 1e9;
+
+fn validate_dynamics(d: &super::schema::RawDynamics, loc: &Locator<'_>) -> Result<DynamicsSpec, InputError> {
+    let key = |f: &str| format!("dynamics.{f}");
+    let duration = positive(loc, &key("duration"), d.duration, "s")?;
+    let dt = positive(loc, &key("time_step"), d.time_step, "s")?;
+    if dt > duration {
+        return Err(loc.error(
+            K::InvalidValue,
+            &key("time_step"),
+            format!("the time step {dt} s is longer than the duration {duration} s"),
+        ));
+    }
+    if duration / dt > MAX_STEPS {
+        return Err(loc.error(
+            K::InvalidValue,
+            &key("duration"),
+            format!("{duration} s at {dt} s is {:.2e} steps, more than the {MAX_STEPS:.0e} one run may take; split the study or lengthen the step", duration / dt),
+        ));
+    }
+    let output_interval = match d.output_interval {
+        Some(o) => {
+            let o = positive(loc, &key("output_interval"), o, "s")?;
+            if o < dt * (1.0 - 1e-9) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &key("output_interval"),
+                    format!("the output interval {o} s is shorter than the time step {dt} s"),
+                ));
+            }
+            o
+        }
+        None => dt,
+    };
+    let scheme = match d.scheme.as_deref().unwrap_or("hht") {
+        "hht" => {
+            let a = d.alpha.unwrap_or(-0.05);
+            if !(a.is_finite() && (-1.0 / 3.0 - 1e-12..=0.0).contains(&a)) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &key("alpha"),
+                    format!("HHT-α needs α in [−1/3, 0], got {a}"),
+                ));
+            }
+            SchemeSpec::Hht(a)
+        }
+        "generalized_alpha" => {
+            let r = d.rho_inf.unwrap_or(0.8);
+            if !(r.is_finite() && (0.0..=1.0).contains(&r)) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &key("rho_inf"),
+                    format!("generalised-α needs ρ∞ in [0, 1], got {r}"),
+                ));
+            }
+            SchemeSpec::GeneralizedAlpha(r)
+        }
+        other => {
+            return Err(loc.error(
+                K::UnknownName,
+                &key("scheme"),
+                format!("unknown scheme `{other}`; known schemes: hht, generalized_alpha"),
+            ))
+        }
+    };
+    let damping = match &d.damping {
+        None => DampingSpec::Coefficients(0.0, 0.0),
+        Some(dm) => match (dm.modes, dm.ratios, dm.mass_coefficient, dm.stiffness_coefficient) {
+            (Some(modes), Some(ratios), None, None) => {
+                if modes[0] == 0 || modes[1] <= modes[0] {
+                    return Err(loc.error(K::InvalidValue, "dynamics.damping.modes", "give two increasing 1-based mode numbers, e.g. [1, 10]"));
+                }
+                if ratios.iter().any(|r| !(r.is_finite() && (0.0..1.0).contains(r))) {
+                    return Err(loc.error(K::InvalidValue, "dynamics.damping.ratios", "damping ratios must be in [0, 1)"));
+                }
+                DampingSpec::Fit { modes, ratios }
+            }
+            (None, None, a0, a1) if a0.is_some() || a1.is_some() => {
+                let (a0, a1) = (a0.unwrap_or(0.0), a1.unwrap_or(0.0));
+                if !(a0.is_finite() && a0 >= 0.0 && a1.is_finite() && a1 >= 0.0) {
+                    return Err(loc.error(K::InvalidValue, "dynamics.damping", "Rayleigh coefficients must be zero or positive"));
+                }
+                DampingSpec::Coefficients(a0, a1)
+            }
+            _ => {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "dynamics.damping",
+                    "give either modes = [i, j] with ratios = [ξi, ξj], or mass_coefficient and/or stiffness_coefficient",
+                ))
+            }
+        },
+    };
+    let wind_ramp = match d.wind_ramp {
+        Some(t) if t.is_finite() && t >= 0.0 => t,
+        Some(t) => {
+            return Err(loc.error(
+                K::InvalidValue,
+                &key("wind_ramp"),
+                format!("must be zero or a positive time in s, got {t}"),
+            ))
+        }
+        None => 0.0,
+    };
+    let perturbation = match &d.perturbation {
+        None => None,
+        Some(p) => {
+            if p.mode == 0 {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "dynamics.perturbation.mode",
+                    "mode numbers start at 1",
+                ));
+            }
+            if !(p.amplitude.is_finite()) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "dynamics.perturbation.amplitude",
+                    "must be a finite displacement in m",
+                ));
+            }
+            Some((p.mode, p.amplitude))
+        }
+    };
+    Ok(DynamicsSpec {
+        duration,
+        time_step: dt,
+        output_interval,
+        scheme,
+        modified_newton: d.modified_newton.unwrap_or(true),
+        wind_ramp,
+        damping,
+        perturbation,
     })
 }

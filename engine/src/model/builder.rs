@@ -8,6 +8,12 @@ use crate::formfinding::{Catenary, CatenarySpan, DiscreteChain};
 use crate::input::Locator;
 use crate::registry::{ElementRegistry, SegmentSpec};
 use crate::spec::{SectionSpec, StringingTarget};
+use glaze_elements::TorsionRestraint;
+
+/// Stiffness of the twist restraint at supports over GJ/ℓ of the adjacent
+/// element: stiff enough to act as a clamp (the twist it lets through is
+/// 1e-4 of the element's), soft enough to keep the tangent well conditioned.
+const TORSION_RESTRAINT_FACTOR: f64 = 1e4;
 use nalgebra::Vector3;
 use std::collections::BTreeMap;
 
@@ -149,9 +155,27 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             }
         }
 
+        // Supports: translations fixed. Kinds with rotations are clamped in
+        // twist only, about the chord, by a stiff torsion restraint; their
+        // bending rotations stay free (a clamp transmits torque but next
+        // to no moment), so a swinging span rolls without a spurious
+        // bending boundary layer.
+        let conductor_elements = first_element..elements.len();
+        if uses_rotation[first] {
+            let chord = (b - a).normalize();
+            let k = TORSION_RESTRAINT_FACTOR * c.torsional_stiffness / ell;
+            for node in [first, first + n_el] {
+                restrained[node] = [true, true, true, false, false, false];
+                let r = TorsionRestraint::new(node, chord, k).map_err(|e| {
+                    loc.error(InputErrorKind::InvalidValue, &format!("spans[{i}]"), e.to_string())
+                })?;
+                elements.push(Box::new(r));
+                aero.push(None);
+            }
+        }
         spans.push(SpanMesh {
             nodes: (first..=first + n_el).collect(),
-            elements: first_element..elements.len(),
+            elements: conductor_elements,
             supports: [s.from, s.to],
             conductor: s.conductor,
             direction,

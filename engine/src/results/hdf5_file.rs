@@ -54,7 +54,8 @@ impl ResultsWriter {
         Ok(w)
     }
 
-    fn file(&self) -> &hdf5::File {
+    /// The open file (for the history writer).
+    pub(crate) fn file(&self) -> &hdf5::File {
         // Present until `finish` consumes the writer.
         self.file.as_ref().expect("results file open until finish")
     }
@@ -220,6 +221,24 @@ impl ResultsWriter {
         }
         std::fs::rename(&self.partial, &self.target).map_err(|e| err(&self.target, e))?;
         Ok(self.target.clone())
+    }
+}
+
+impl ResultsWriter {
+    /// Closes the file *incomplete* (`complete = 0`) and keeps it under its
+    /// partial name, e.g. after an interruption; returns that path.
+    pub fn keep_incomplete(mut self, wall_time_s: f64) -> Result<PathBuf, GlazeError> {
+        self.attr_f64("wall_time_s", wall_time_s)?;
+        if let Some(file) = self.file.take() {
+            file.flush().map_err(|e| err(&self.target, e))?;
+            file.close().map_err(|e| err(&self.target, e))?;
+        }
+        Ok(self.partial.clone())
+    }
+
+    /// The target path.
+    pub fn target(&self) -> &Path {
+        &self.target
     }
 }
 

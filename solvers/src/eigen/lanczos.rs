@@ -68,16 +68,22 @@
 use faer::{Mat, Side};
 
 use super::{check_input, normalise, residual_and_floor, too_many, EigenPairs, EigenSettings};
-use crate::{LinearSolver, SolverError, SparseDirect, SparsityPattern};
+use crate::{Factorisation, LinearSolver, SolverError, SparseDirect, SparsityPattern};
 
 /// Ritz values μ ≤ this · n · ε · max|μ| are taken as μ = 0 (infinite λ).
 const ZERO_MU_FACTOR: f64 = 100.0;
 /// A new vector keeping at most this fraction of its M-norm after
 /// orthogonalisation lies in the span (invariant subspace, or exhausted).
 const TINY: f64 = 1e3 * f64::EPSILON;
+/// A pair is locked once its Ritz residual is below this fraction of
+/// tolerance · μ (or at rounding level).
+const LOCK_FRACTION: f64 = 1e-2;
 /// Ritz pairs whose Ritz residual exceeds this fraction of |μ| are not
 /// worth a true-residual evaluation.
 const RITZ_SCREEN: f64 = 1e-3;
+/// Relative Ritz residual at which the largest Ritz value of the verification
+/// space is trusted as a bound.
+const VERIFY_RITZ: f64 = 1e-6;
 /// Relative tie between a verified eigenvalue and the largest locked one.
 const TIE: f64 = 1e-8;
 /// Seed of the start vectors (deterministic runs).
@@ -141,7 +147,12 @@ pub fn lanczos_shift_invert(
     check_input(pattern, k, m)?;
     let a: Vec<f64> = k.iter().zip(m).map(|(k, m)| k - settings.shift * m).collect();
     let mut solver = SparseDirect::new(pattern);
-    solver.factor(&a)?;
+    // Inner product B: K − σM itself when positive definite (Cholesky
+    // succeeded), else K + |σ|M (see the module notes).
+    let b = match solver.factor(&a)? {
+        Factorisation::Cholesky => a,
+        Factorisation::Lu => k.iter().zip(m).map(|(k, m)| k + settings.shift.abs() * m).collect(),
+    };
     let mut run = Lanczos {
         pattern,
         k,
@@ -150,6 +161,7 @@ pub fn lanczos_shift_invert(
         p: settings.subspace_size(n),
         settings,
         solver,
+        b,
         applications: 0,
         rng: Lcg(SEED),
         locked: Vec::new(),
@@ -187,6 +199,17 @@ struct Locked {
     x: Vec<f64>,
 }
 
+/// The outcome of one expansion: Op V = V H + r e_mᵀ with r = `raw`.
+struct Step {
+    /// The next basis vector: r / β, or a fresh vector after an invariant
+    /// subspace; `None` when the space is exhausted.
+    next: Option<Vec<f64>>,
+    /// The residual r = Op v_m − V h (after orthogonalisation, unnormalised).
+    raw: Vec<f64>,
+    /// β = ‖r‖_M.
+    beta: f64,
+}
+
 /// The examination of a Rayleigh–Ritz step.
 struct Examined {
     /// Ritz indices locked in this step.
@@ -207,6 +230,8 @@ struct Lanczos<'a> {
     p: usize,
     settings: &'a EigenSettings,
     solver: SparseDirect,
+    /// Values of the inner-product matrix B (positive definite) on the pattern.
+    b: Vec<f64>,
     applications: usize,
     rng: Lcg,
     /// Accepted pairs, ascending λ, at most `count`.
@@ -231,15 +256,33 @@ impl Lanczos<'_> {
         Ok(out)
     }
 
-    /// Classical Gram–Schmidt twice in the M inner product against the locked
+    /// Classical Gram–Schmidt twice in the B inner product against the locked
     /// vectors and the active basis; adds the basis coefficients to `coeffs`.
-    /// Returns the M-norms of `w` before and after.
-    fn orthogonalise(&mut self, w: &mut [f64], mut coeffs: Option<&mut [f64]>) -> (f64, f64) {
-        self.pattern.mul_vec(self.m, w, &mut self.z);
-        let before = dot(w, &self.z).max(0.0).sqrt();
+    /// Returns the B-norms of `w` before and after.
+    fn orthogonalise(
+        &mut self,
+        w: &mut [f64],
+        mut coeffs: Option<&mut [f64]>,
+    ) -> Result<(f64, f64), SolverError> {
+        self.pattern.mul_vec(&self.b, w, &mut self.z);
+        let before2 = dot(w, &self.z);
+        if before2 < 0.0 {
+            // Rounding can make a tiny B-norm² slightly negative; a clearly
+            // negative one means B = K − τM is indefinite.
+            let bound = dot_abs(w, &self.z);
+            if -before2 > f64::EPSILON.sqrt() * bound {
+                return Err(SolverError::InvalidSettings {
+                    name: "stiffness",
+                    value: before2 / bound,
+                    expected: "a positive semi-definite stiffness K (K + |σ|M positive definite \
+                               when σ is inside the spectrum); K has negative eigenvalues: the \
+                               linearised state is unstable",
+                });
+            }
+        }
         for pass in 0..2 {
             if pass > 0 {
-                self.pattern.mul_vec(self.m, w, &mut self.z);
+                self.pattern.mul_vec(&self.b, w, &mut self.z);
             }
             let cl: Vec<f64> = self.locked.iter().map(|l| dot(&l.y, &self.z)).collect();
             let cb: Vec<f64> = self.basis.iter().map(|v| dot(v, &self.z)).collect();
@@ -255,8 +298,8 @@ impl Lanczos<'_> {
                 }
             }
         }
-        self.pattern.mul_vec(self.m, w, &mut self.z);
-        (before, dot(w, &self.z).max(0.0).sqrt())
+        self.pattern.mul_vec(&self.b, w, &mut self.z);
+        Ok((before2.max(0.0).sqrt(), dot(w, &self.z).max(0.0).sqrt()))
     }
 
     /// A pseudo-random vector passed once through Op (purified of null(M)),
@@ -265,7 +308,7 @@ impl Lanczos<'_> {
     fn fresh_vector(&mut self) -> Result<Option<Vec<f64>>, SolverError> {
         let r: Vec<f64> = (0..self.n).map(|_| self.rng.symmetric()).collect();
         let mut w = self.apply(&r)?;
-        let (before, after) = self.orthogonalise(&mut w, None);
+        let (before, after) = self.orthogonalise(&mut w, None)?;
         if !(after > TINY * before) {
             return Ok(None);
         }
@@ -273,27 +316,24 @@ impl Lanczos<'_> {
         Ok(Some(w))
     }
 
-    /// Applies Op to the last basis vector, fills its column of `h`, and
-    /// returns the next basis vector (None when the space is exhausted) and
-    /// its coupling β (0 after an invariant subspace, when the next vector is
-    /// a fresh one).
-    fn expand(&mut self) -> Result<(Option<Vec<f64>>, f64), SolverError> {
+    /// Applies Op to the last basis vector and fills its column of `h`.
+    fn expand(&mut self) -> Result<Step, SolverError> {
         let j = self.basis.len() - 1;
         let mut w = self.apply(&self.basis[j].clone())?;
         let mut coeffs = vec![0.0; j + 1];
-        let (before, after) = self.orthogonalise(&mut w, Some(&mut coeffs));
+        let (before, after) = self.orthogonalise(&mut w, Some(&mut coeffs))?;
         for (i, c) in coeffs.iter().enumerate() {
             self.h[(i, j)] = *c;
         }
-        if self.basis.len() + self.locked.len() >= self.n {
-            return Ok((None, 0.0));
-        }
-        if !(after > TINY * before) {
+        let next = if self.basis.len() + self.locked.len() >= self.n {
+            None
+        } else if !(after > TINY * before) {
             // Invariant subspace: continue with a fresh direction.
-            return Ok((self.fresh_vector()?, 0.0));
-        }
-        w.iter_mut().for_each(|v| *v /= after);
-        Ok((Some(w), after))
+            self.fresh_vector()?
+        } else {
+            Some(w.iter().map(|v| v / after).collect())
+        };
+        Ok(Step { next, raw: w, beta: after })
     }
 
     /// Ritz values (ascending) and vectors (columns) of the projected matrix.
@@ -317,14 +357,7 @@ impl Lanczos<'_> {
     }
 
     /// Tests the leading Ritz pairs on their true residual and locks the accepted ones.
-    fn examine(
-        &mut self,
-        theta: &[f64],
-        s: &Mat<f64>,
-        next: Option<&[f64]>,
-        beta: f64,
-        verifying: bool,
-    ) -> Examined {
+    fn examine(&mut self, theta: &[f64], s: &Mat<f64>, step: &Step, verifying: bool) -> Examined {
         let len = self.basis.len();
         let count = self.settings.count;
         let mut order: Vec<usize> = (0..len).collect();
@@ -343,16 +376,25 @@ impl Lanczos<'_> {
                 }
                 break;
             }
-            let coupling = beta * s[(len - 1, i)];
-            if coupling.abs() > RITZ_SCREEN * theta[i] {
+            // Ritz residual ‖Op y − θ y‖_M = β |s_m|.
+            let estimate = step.beta * s[(len - 1, i)].abs();
+            if rank == 0 && verifying && self.locked.len() == count {
+                // No eigenvalue of the deflated operator above the locked ones:
+                // its largest Ritz value, converged to VERIFY_RITZ, is bounded by
+                // θ + ‖r‖ below the smallest locked μ.
+                let mu_c = 1.0 / (self.locked[count - 1].lambda - self.settings.shift);
+                if estimate <= VERIFY_RITZ * theta[i] && theta[i] + estimate <= mu_c * (1.0 + TIE) {
+                    out.verified = true;
+                    break;
+                }
+            }
+            if estimate > RITZ_SCREEN * theta[i] {
                 continue;
             }
-            // Ericsson–Ruhe purification: x = y + (β s_m / θ) v_next = Op y / θ.
+            // Ericsson–Ruhe purification: x = y + (s_m / θ) r = Op y / θ.
             let y = self.combine(s, i);
             let mut x = y.clone();
-            if let Some(next) = next {
-                axpy(coupling / theta[i], next, &mut x);
-            }
+            axpy(s[(len - 1, i)] / theta[i], &step.raw, &mut x);
             self.pattern.mul_vec(self.m, &x, &mut self.mx);
             let norm = dot(&x, &self.mx).sqrt();
             x.iter_mut().for_each(|v| *v /= norm);
@@ -366,6 +408,12 @@ impl Lanczos<'_> {
             accepted += 1;
             let largest = self.locked.last().map_or(f64::INFINITY, |l| l.lambda);
             if self.locked.len() < count || lambda < largest - TIE * largest.abs() {
+                // Locking drops the pair's coupling β s_m to the rest of the
+                // basis, a perturbation of Op of that size: lock only once it
+                // is far below the accuracy asked of the other pairs.
+                if estimate > (LOCK_FRACTION * self.settings.tolerance * theta[i]).max(TINY * scale) {
+                    continue;
+                }
                 if self.locked.len() == count {
                     self.locked.pop();
                 }
@@ -412,17 +460,17 @@ impl Lanczos<'_> {
         }
         loop {
             let cap = self.p - self.locked.len();
-            let (next, beta) = self.expand()?;
-            let exhausted = next.is_none();
+            let step = self.expand()?;
+            let exhausted = step.next.is_none();
             let full = self.basis.len() >= cap;
             let check_due =
                 verifying && self.basis.len() >= 2 * CHECK_EVERY && self.basis.len() % CHECK_EVERY == 0;
             if !(full || exhausted || check_due) {
-                self.basis.push(next.expect("not exhausted"));
+                self.basis.push(step.next.expect("not exhausted"));
                 continue;
             }
             let (theta, s) = self.ritz()?;
-            let ex = self.examine(&theta, &s, next.as_deref(), beta, verifying);
+            let ex = self.examine(&theta, &s, &step, verifying);
             let done_locking = self.locked.len() == count;
             if done_locking && (exhausted || (verifying && ex.verified && ex.locked.is_empty())) {
                 return Ok(restarts);
@@ -434,7 +482,7 @@ impl Lanczos<'_> {
                     not_converged(self.locked.len(), restarts)
                 });
             }
-            let next = next.expect("not exhausted");
+            let next = step.next.expect("not exhausted");
             if done_locking && (!verifying || !ex.locked.is_empty()) {
                 // Start the check for missed eigenvalues from a fresh vector.
                 verifying = true;
@@ -515,6 +563,11 @@ impl Lanczos<'_> {
         }
         Ok(pairs)
     }
+}
+
+/// Σ |aᵢ bᵢ|.
+fn dot_abs(a: &[f64], b: &[f64]) -> f64 {
+    a.iter().zip(b).map(|(x, y)| (x * y).abs()).sum()
 }
 
 fn dot(a: &[f64], b: &[f64]) -> f64 {

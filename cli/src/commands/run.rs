@@ -1,0 +1,108 @@
+//! `glaze run FILE --out RESULT.h5`: static state, then the nonlinear time
+//! simulation with histories streamed to the results file.
+
+use super::CAUTION;
+use glaze_engine::analysis::dynamic_stage::{run_dynamic, Progress};
+use glaze_engine::results::ResultsWriter;
+use glaze_engine::{input, ElementRegistry, GlazeError};
+use indicatif::{ProgressBar, ProgressStyle};
+use std::io::IsTerminal;
+use std::path::Path;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::Arc;
+use std::time::Instant;
+
+/// Runs `file` and writes `out`. Ctrl-C stops at the next output interval
+/// and keeps what was written, marked incomplete, under `OUT.partial`.
+pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
+    let start = Instant::now();
+    let registry = ElementRegistry::with_builtin();
+    let spec = input::load(file, &registry)?;
+    let stop = Arc::new(AtomicBool::new(false));
+    {
+        let stop = stop.clone();
+        // A second Ctrl-C exits at once; the partial file stays marked incomplete.
+        let _ = ctrlc::set_handler(move || {
+            if stop.swap(true, Ordering::SeqCst) {
+                std::process::exit(130);
+            }
+        });
+    }
+    let writer = match ResultsWriter::create(out, &spec.source) {
+        Ok(w) => w,
+        Err(e) => {
+            let _ = std::fs::remove_file(out);
+            return Err(e);
+        }
+    };
+    let duration = spec.dynamics.as_ref().map_or(0.0, |d| d.duration);
+    let bar = if quiet || !std::io::stderr().is_terminal() {
+        None
+    } else {
+        let b = ProgressBar::new(1000);
+        b.set_style(
+            ProgressStyle::with_template("{bar:40} {msg} [{elapsed_precise}, {eta} left]")
+                .unwrap_or_else(|_| ProgressStyle::default_bar()),
+        );
+        Some(b)
+    };
+    let mut last_log = Instant::now();
+    let mut on_progress = |p: Progress| {
+        let rate = p.steps as f64 / start.elapsed().as_secs_f64().max(1e-9);
+        let msg = format!("t = {:.2} / {:.2} s, {:.0} steps/s, {:.2} Newton it./step", p.time, p.duration, rate, p.iterations as f64 / p.steps.max(1) as f64);
+        match &bar {
+            Some(b) => {
+                b.set_position((1000.0 * p.time / p.duration.max(1e-12)) as u64);
+                b.set_message(msg);
+            }
+            None if !quiet && last_log.elapsed().as_secs_f64() > 10.0 => {
+                eprintln!("glaze run: {msg}");
+                last_log = Instant::now();
+            }
+            None => {}
+        }
+    };
+    let summary = match run_dynamic(&spec, &registry, &writer, &stop, &mut on_progress) {
+        Ok(s) => s,
+        Err(e) => {
+            drop(writer);
+            let _ = std::fs::remove_file(out);
+            return Err(e);
+        }
+    };
+    if let Some(b) = &bar {
+        b.finish_and_clear();
+    }
+    if summary.interrupted {
+        let kept = writer.keep_incomplete(start.elapsed().as_secs_f64())?;
+        eprintln!(
+            "glaze run: interrupted at t = {:.3} s of {duration} s; {} records kept in {} (marked incomplete)",
+            summary.time,
+            summary.records,
+            kept.display()
+        );
+        std::process::exit(130);
+    }
+    let path = writer.finish(start.elapsed().as_secs_f64())?;
+    if !quiet {
+        let wall = start.elapsed().as_secs_f64();
+        println!(
+            "{} s simulated in {wall:.1} s wall ({:.1}× real time): {} steps ({} cut back), {} Newton iterations ({:.2}/step), {} factorisations ({:.2}/step)",
+            summary.time,
+            summary.time / wall,
+            summary.steps,
+            summary.rejected_steps,
+            summary.iterations,
+            summary.iterations as f64 / summary.steps.max(1) as f64,
+            summary.factorisations,
+            summary.factorisations as f64 / summary.steps.max(1) as f64
+        );
+        println!(
+            "Rayleigh damping a0 = {:.4e} 1/s, a1 = {:.4e} s; energy balance error {:.2e} of the largest term",
+            summary.rayleigh.0, summary.rayleigh.1, summary.energy_balance_error
+        );
+        println!("{} records written to {}", summary.records, path.display());
+        println!("{CAUTION}");
+    }
+    Ok(())
+}

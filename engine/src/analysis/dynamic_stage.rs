@@ -1,0 +1,373 @@
+//! The dynamic stage: static state (with or without the mean wind), modes
+//! for the damping fit and the perturbation, then the nonlinear time
+//! integration with histories streamed to the results file.
+
+use super::dynamic_system::{node_velocity, DynamicSystem};
+use super::modal::{Linearisation, ModalSettings};
+use super::rayleigh::Rayleigh;
+use super::static_stage::run_static;
+use super::static_system::Configuration;
+use crate::error::{GlazeError, InputErrorKind};
+use crate::input::Locator;
+use crate::model::{self, Model, DOF_PER_NODE};
+use crate::registry::ElementRegistry;
+use crate::results::{HistoryWriter, Record, ResultsWriter};
+use crate::spec::{DampingSpec, DynamicsSpec, SchemeSpec, SectionSpec};
+use glaze_elements::{so3, ElementContext, NodeState};
+use glaze_solvers::{Integrator, IntegratorSettings, NewtonSettings, Scheme, SecondOrderSystem};
+use std::sync::atomic::{AtomicBool, Ordering};
+
+/// Progress of a run, reported after every output interval.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Progress {
+    /// Simulated time reached, in s.
+    pub time: f64,
+    /// Simulated time to reach, in s.
+    pub duration: f64,
+    /// Steps taken.
+    pub steps: usize,
+    /// Newton iterations so far.
+    pub iterations: usize,
+}
+
+/// How a run ended.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DynamicSummary {
+    /// Simulated time reached, in s.
+    pub time: f64,
+    /// Whether the run was stopped before its end.
+    pub interrupted: bool,
+    /// Records written.
+    pub records: usize,
+    /// Steps, rejected steps, Newton iterations, factorisations.
+    pub steps: usize,
+    /// Rejected (cut-back) steps.
+    pub rejected_steps: usize,
+    /// Newton iterations.
+    pub iterations: usize,
+    /// Numeric factorisations.
+    pub factorisations: usize,
+    /// Rayleigh coefficients used (a0 in 1/s, a1 in s).
+    pub rayleigh: (f64, f64),
+    /// Largest |energy balance residual| / largest energy term over the run.
+    pub energy_balance_error: f64,
+}
+
+/// Runs the dynamic stage of `spec`, writing `/model`, `/static` and
+/// `/dynamic` into `writer`. `stop` is polled between output intervals.
+pub fn run_dynamic(
+    spec: &SectionSpec,
+    registry: &ElementRegistry,
+    writer: &ResultsWriter,
+    stop: &AtomicBool,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<DynamicSummary, GlazeError> {
+    let loc = Locator::new(&spec.file, &spec.source);
+    let dynamics = spec.dynamics.as_ref().ok_or_else(|| {
+        loc.error(InputErrorKind::MissingKey, "dynamics", "a run needs a [dynamics] table: duration, time_step, output_interval, …")
+    })?;
+    let model = model::build(spec, registry)?;
+    // With a wind ramp the run starts from the state without wind.
+    let static_spec = if dynamics.wind_ramp > 0.0 {
+        let mut s = spec.clone();
+        s.load_case.wind = None;
+        s
+    } else {
+        spec.clone()
+    };
+    let static_model = model::build(&static_spec, registry)?;
+    let state = run_static(&static_spec, &static_model)?;
+    writer.write_model(&model)?;
+    writer.write_static(&static_model, &state, &spec.load_case.name)?;
+
+    // Modes: for the Rayleigh fit and the perturbation.
+    let needed = match dynamics.damping {
+        DampingSpec::Fit { modes, .. } => modes[1],
+        DampingSpec::Coefficients(..) => 0,
+    }
+    .max(dynamics.perturbation.map_or(0, |p| p.0));
+    let modes = if needed > 0 {
+        let lin = Linearisation::about(&static_model, &state.config)?;
+        if needed > lin.mode_capacity() {
+            return Err(loc.error(InputErrorKind::InvalidValue, "dynamics", format!("mode {needed} is asked for, but the model has only {} modes", lin.mode_capacity())).into());
+        }
+        Some((lin.solve(&ModalSettings::new(needed))?, lin))
+    } else {
+        None
+    };
+    let rayleigh = match (dynamics.damping, &modes) {
+        (DampingSpec::Fit { modes: m, ratios }, Some((set, _))) => {
+            let omega = [set.omega_squared[m[0] - 1].sqrt(), set.omega_squared[m[1] - 1].sqrt()];
+            Rayleigh::fit(omega, ratios).map_err(|e| loc.error(InputErrorKind::InvalidValue, "dynamics.damping", e))?
+        }
+        (DampingSpec::Coefficients(a0, a1), _) => Rayleigh { mass: a0, stiffness: a1 },
+        _ => Rayleigh { mass: 0.0, stiffness: 0.0 },
+    };
+
+    let mut system = DynamicSystem::new(&model, &state.config, rayleigh.mass, rayleigh.stiffness, dynamics.wind_ramp)
+        .map_err(|e| GlazeError::Analysis { message: format!("dynamic system: {}", e.message) })?;
+    if let (Some((mode, amplitude)), Some((set, lin))) = (dynamics.perturbation, &modes) {
+        let phi = &set.vectors[mode - 1];
+        let peak = lin
+            .equations
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| i % DOF_PER_NODE < 3)
+            .filter_map(|(_, eq)| eq.map(|q| phi[q].abs()))
+            .fold(0.0, f64::max);
+        let dq: Vec<f64> = phi.iter().map(|x| x * amplitude / peak.max(f64::MIN_POSITIVE)).collect();
+        system.set_increment(&dq);
+        system.commit();
+    }
+    integrate(spec, dynamics, &model, &state.config, system, writer, stop, progress, rayleigh)
+}
+
+fn settings(d: &DynamicsSpec) -> IntegratorSettings {
+    IntegratorSettings {
+        scheme: match d.scheme {
+            SchemeSpec::Hht(alpha) => Scheme::Hht { alpha },
+            SchemeSpec::GeneralizedAlpha(rho_inf) => Scheme::GeneralizedAlpha { rho_inf },
+        },
+        dt: d.time_step,
+        min_dt: d.time_step / 1024.0,
+        max_dt: d.time_step,
+        newton: NewtonSettings { max_iterations: 20, residual_tolerance: 1e-8, ..NewtonSettings::default() },
+        modified_newton: d.modified_newton,
+        reuse_ratio: 0.25,
+    }
+}
+
+/// Energy bookkeeping between steps (trapezoidal rule).
+struct Energy {
+    strain: f64,
+    dissipated: f64,
+    aero_work: f64,
+    f_int: Vec<f64>,
+    f_aero: Vec<f64>,
+    v: Vec<f64>,
+    config: Configuration,
+    time: f64,
+    worst: f64,
+    initial_total: Option<f64>,
+    origin: Vec<nalgebra::Vector3<f64>>,
+}
+
+#[allow(clippy::too_many_arguments)]
+fn integrate(
+    spec: &SectionSpec,
+    d: &DynamicsSpec,
+    model: &Model,
+    start: &Configuration,
+    system: DynamicSystem<'_>,
+    writer: &ResultsWriter,
+    stop: &AtomicBool,
+    progress: &mut dyn FnMut(Progress),
+    rayleigh: Rayleigh,
+) -> Result<DynamicSummary, GlazeError> {
+    let n = model.dofs.len();
+    let mut history = HistoryWriter::create(writer, model.node_count(), model.elements.len(), model.support_nodes.len())?;
+    let first_config = system.committed.clone();
+    let first_config_positions = first_config.positions.clone();
+    let mut integ = Integrator::new(system, vec![0.0; n], 0.0, settings(d))
+        .map_err(|e| GlazeError::Analysis { message: format!("the dynamic run could not start: {e}") })?;
+    let mut energy = Energy {
+        strain: 0.0,
+        dissipated: 0.0,
+        aero_work: 0.0,
+        f_int: integ.system().internal_force.clone(),
+        f_aero: integ.system().aero_force.clone(),
+        v: vec![0.0; n],
+        config: first_config,
+        time: 0.0,
+        worst: 0.0,
+        initial_total: None,
+        origin: first_config_positions,
+    };
+    history.push(record(model, start, &integ, &mut energy))?;
+    let outputs = (d.duration / d.output_interval - 1e-9).ceil() as usize;
+    let mut interrupted = false;
+    for k in 1..=outputs {
+        if stop.load(Ordering::Relaxed) {
+            interrupted = true;
+            break;
+        }
+        let t_k = (k as f64 * d.output_interval).min(d.duration);
+        integ
+            .advance_to(t_k, |i, _| accumulate(model, i, &mut energy))
+            .map_err(|e| GlazeError::Analysis { message: failure_report(spec, model, &integ_time(&energy), e) })?;
+        history.push(record(model, start, &integ, &mut energy))?;
+        let stats = integ.stats();
+        progress(Progress { time: t_k, duration: d.duration, steps: stats.steps, iterations: stats.newton_iterations });
+    }
+    history.flush()?;
+    let stats = integ.stats();
+    Ok(DynamicSummary {
+        time: integ.time(),
+        interrupted,
+        records: history.len(),
+        steps: stats.steps,
+        rejected_steps: stats.rejected_steps,
+        iterations: stats.newton_iterations,
+        factorisations: stats.factorisations,
+        rayleigh: (rayleigh.mass, rayleigh.stiffness),
+        energy_balance_error: energy.worst,
+    })
+}
+
+fn integ_time(e: &Energy) -> f64 {
+    e.time
+}
+
+fn failure_report(spec: &SectionSpec, model: &Model, last_good: &f64, e: glaze_solvers::SolverError) -> String {
+    format!(
+        "the dynamic run of {} stopped after t = {last_good:.4} s: {e}. Try a smaller [dynamics] time_step, more elements per span, \
+         or check the aerodynamic tables ({} nodes, {} elements)",
+        spec.file.display(),
+        model.node_count(),
+        model.elements.len()
+    )
+}
+
+/// After each accepted step: trapezoidal increments of the strain work,
+/// the Rayleigh dissipation and the aerodynamic work.
+fn accumulate(model: &Model, integ: &Integrator<DynamicSystem<'_>>, e: &mut Energy) {
+    let sys = integ.system();
+    let v = integ.velocity();
+    let h = integ.time() - e.time;
+    let dq = increment(model, &e.config, &sys.committed);
+    e.strain += 0.5 * dq.iter().zip(e.f_int.iter().zip(&sys.internal_force)).map(|(q, (a, b))| q * (a + b)).sum::<f64>();
+    let mut cv = vec![0.0; v.len()];
+    sys.pattern().mul_vec(sys.damping(), v, &mut cv);
+    let mut cv0 = vec![0.0; v.len()];
+    sys.pattern().mul_vec(sys.damping(), &e.v, &mut cv0);
+    let p1: f64 = v.iter().zip(&cv).map(|(a, b)| a * b).sum();
+    let p0: f64 = e.v.iter().zip(&cv0).map(|(a, b)| a * b).sum();
+    e.dissipated += 0.5 * h * (p0 + p1);
+    let w1: f64 = v.iter().zip(&sys.aero_force).map(|(a, b)| a * b).sum();
+    let w0: f64 = e.v.iter().zip(&e.f_aero).map(|(a, b)| a * b).sum();
+    e.aero_work += 0.5 * h * (w0 + w1);
+    e.f_int.clone_from(&sys.internal_force);
+    e.f_aero.clone_from(&sys.aero_force);
+    e.v.copy_from_slice(v);
+    e.config.clone_from(&sys.committed);
+    e.time = integ.time();
+}
+
+/// The equation-space increment from `a` to `b` (rotation vectors for rotations).
+fn increment(model: &Model, a: &Configuration, b: &Configuration) -> Vec<f64> {
+    let mut dq = vec![0.0; model.dofs.len()];
+    for node in 0..model.node_count() {
+        let theta = so3::log(&(b.rotations[node] * a.rotations[node].transpose()));
+        for dof in 0..DOF_PER_NODE {
+            if let Some(eq) = model.dofs.equation(node, dof) {
+                dq[eq] = if dof < 3 { b.positions[node][dof] - a.positions[node][dof] } else { theta[dof - 3] };
+            }
+        }
+    }
+    dq
+}
+
+fn record(model: &Model, start: &Configuration, integ: &Integrator<DynamicSystem<'_>>, e: &mut Energy) -> Record {
+    let sys = integ.system();
+    let config = &sys.committed;
+    let v = integ.velocity();
+    let nn = model.node_count();
+    let mut velocity = vec![[0.0; 3]; nn];
+    for (node, vel) in velocity.iter_mut().enumerate() {
+        for (dof, slot) in vel.iter_mut().enumerate() {
+            if let Some(eq) = model.dofs.equation(node, dof) {
+                *slot = v[eq];
+            }
+        }
+    }
+    let mut mv = vec![0.0; v.len()];
+    sys.pattern().mul_vec(sys.mass(), v, &mut mv);
+    let kinetic = 0.5 * v.iter().zip(&mv).map(|(a, b)| a * b).sum::<f64>();
+    // Potential of the constant nodal loads (weight), from the first state.
+    let gravity: f64 = -(0..nn)
+        .flat_map(|node| (0..3).map(move |dof| (node, dof)))
+        .map(|(node, dof)| model.case_load[node * DOF_PER_NODE + dof] * (config.positions[node][dof] - e.origin[node][dof]))
+        .sum::<f64>();
+    let total = kinetic + e.strain + gravity + e.dissipated - e.aero_work;
+    let initial = *e.initial_total.get_or_insert(total);
+    let scale = kinetic.abs().max(e.strain.abs()).max(gravity.abs()).max(e.dissipated).max(e.aero_work.abs()).max(f64::MIN_POSITIVE);
+    if kinetic + e.dissipated + e.aero_work.abs() > 0.0 {
+        e.worst = e.worst.max((total - initial).abs() / scale);
+    }
+    let ctx = ElementContext { temperature_change: model.temperature_change };
+    let axial_force = model
+        .elements
+        .iter()
+        .map(|el| {
+            let nodes: Vec<NodeState> = el
+                .nodes()
+                .iter()
+                .map(|&n| NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] })
+                .collect();
+            el.output(&ctx, &nodes).axial_force
+        })
+        .collect();
+    Record {
+        time: integ.time(),
+        displacement: (0..nn).map(|i| std::array::from_fn(|d| config.positions[i][d] - start.positions[i][d])).collect(),
+        rotation: config
+            .rotations
+            .iter()
+            .map(|r| {
+                let q = nalgebra::UnitQuaternion::from_matrix(r);
+                let q = if q.w < 0.0 { -q.into_inner() } else { q.into_inner() };
+                [q.w, q.i, q.j, q.k]
+            })
+            .collect(),
+        velocity,
+        axial_force,
+        support_force: support_forces(model, config, sys, v, integ.time()),
+        energy: [kinetic, e.strain, gravity, e.dissipated, e.aero_work],
+    }
+}
+
+/// Force of each support on its node: internal force less the nodal
+/// loads there (weight and wind on the supported node), in N.
+fn support_forces(model: &Model, config: &Configuration, sys: &DynamicSystem<'_>, v: &[f64], t: f64) -> Vec<[f64; 3]> {
+    let ctx = ElementContext { temperature_change: model.temperature_change };
+    let mut full = vec![0.0; model.node_count() * DOF_PER_NODE];
+    let mut f = vec![0.0; 12];
+    for el in &model.elements {
+        let nodes: Vec<NodeState> =
+            el.nodes().iter().map(|&n| NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] }).collect();
+        let m = nodes.len() * DOF_PER_NODE;
+        f.resize(m, 0.0);
+        el.internal_force(&ctx, &nodes, &mut f[..m]);
+        for (a, &n) in el.nodes().iter().enumerate() {
+            for d in 0..DOF_PER_NODE {
+                full[n * DOF_PER_NODE + d] += f[a * DOF_PER_NODE + d];
+            }
+        }
+    }
+    let scale = sys.wind_factor(t).sqrt();
+    if let (Some(wind), true) = (model.wind, scale > 0.0) {
+        for (e, el) in model.elements.iter().enumerate() {
+            let Some(aero) = &model.aero[e] else { continue };
+            let ids = el.nodes();
+            if !ids.iter().any(|&n| model.restrained[n].iter().any(|&r| r)) {
+                continue;
+            }
+            let nodes: Vec<NodeState> =
+                ids.iter().map(|&n| NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] }).collect();
+            let vel = [node_velocity(model, v, ids[0]), node_velocity(model, v, ids[1])];
+            if crate::aero_loads::element_load(aero, &wind, scale, &nodes, &vel, &mut f[..12]).is_ok() {
+                for (a, &n) in ids.iter().enumerate() {
+                    for d in 0..DOF_PER_NODE {
+                        full[n * DOF_PER_NODE + d] -= f[a * DOF_PER_NODE + d];
+                    }
+                }
+            }
+        }
+    }
+    model
+        .support_nodes
+        .iter()
+        .map(|&n| std::array::from_fn(|d| full[n * DOF_PER_NODE + d] - model.case_load[n * DOF_PER_NODE + d]))
+        .collect()
+}
+

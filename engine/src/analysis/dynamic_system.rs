@@ -1,0 +1,265 @@
+//! The equations of motion of a [`Model`] as a [`SecondOrderSystem`]:
+//! `M a + C v + g(q, v, t) = 0` with `g = f_int(q) − f_weight − f_aero(q, v, t)`.
+//!
+//! - M: lumped mass of the elements (conductor, ice), constant.
+//! - C: Rayleigh damping `a0 M + a1 K0` with K0 the symmetrised tangent at
+//!   the start state (Clough & Penzien 1993, §12.4).
+//! - f_aero: quasi-steady loads of [`crate::aero_loads`], with the conductor
+//!   velocity and twist rate in the relative wind, so their derivatives
+//!   give the aerodynamic stiffness K and damping D of the Newton matrix.
+//!
+//! Rotations: the solver's unknowns for rotational DOF are spatial
+//! rotation-vector increments, applied as `R ← exp(Δθ̂) R`; angular
+//! velocities and accelerations are spatial vectors on which the Newmark
+//! relations act additively. This is the spatial form of Simo & Vu-Quoc
+//! (1988, "On the dynamics in space of rods undergoing large motions — a
+//! geometrically exact approach", CMAME 66) with the inertia held at its
+//! reference value and the gyroscopic term neglected, which is accurate for
+//! the nearly axisymmetric, slowly twisting sections of conductors.
+
+use super::static_system::Configuration;
+use crate::aero_loads::{element_jacobian, element_load, Derivative, NodeVelocity};
+use crate::model::{Model, DOF_PER_NODE};
+use glaze_elements::{so3, ElementContext, NodeState};
+use glaze_solvers::{Assembler, EvalError, SecondOrderSystem, SparsityPattern};
+use nalgebra::Vector3;
+
+/// Dynamic system of a model.
+pub struct DynamicSystem<'m> {
+    model: &'m Model,
+    pattern: SparsityPattern,
+    assembler: Assembler,
+    mass: Vec<f64>,
+    damping: Vec<f64>,
+    /// Committed configuration q_n.
+    pub committed: Configuration,
+    /// Trial configuration q_n ⊕ Δq.
+    pub trial: Configuration,
+    wind_ramp: f64,
+    gather: Vec<NodeState>,
+    f_local: Vec<f64>,
+    k_local: Vec<f64>,
+    /// Internal force at the last evaluation, on the equations.
+    pub internal_force: Vec<f64>,
+    /// Aerodynamic force at the last evaluation, on the equations.
+    pub aero_force: Vec<f64>,
+}
+
+impl<'m> DynamicSystem<'m> {
+    /// Sets up the system at `start` with Rayleigh coefficients `a0`
+    /// (1/s) and `a1` (s); `wind_ramp` in s (0: full wind from t = 0).
+    pub fn new(model: &'m Model, start: &Configuration, a0: f64, a1: f64, wind_ramp: f64) -> Result<Self, EvalError> {
+        let groups: Vec<Vec<Option<usize>>> = model.elements.iter().map(|e| model.dofs.element_equations(e.nodes())).collect();
+        let pattern = SparsityPattern::from_dof_groups(model.dofs.len(), groups.iter().map(|g| g.as_slice()));
+        let assembler = Assembler::new(&pattern, groups.iter().map(|g| g.as_slice()));
+        let max_nodes = model.elements.iter().map(|e| e.nodes().len()).max().unwrap_or(2).max(2);
+        let m = max_nodes * DOF_PER_NODE;
+        let mut s = Self {
+            model,
+            mass: vec![0.0; pattern.nnz()],
+            damping: vec![0.0; pattern.nnz()],
+            pattern,
+            assembler,
+            committed: start.clone(),
+            trial: start.clone(),
+            wind_ramp,
+            gather: Vec::with_capacity(max_nodes),
+            f_local: vec![0.0; m],
+            k_local: vec![0.0; m * m],
+            internal_force: vec![0.0; model.dofs.len()],
+            aero_force: vec![0.0; model.dofs.len()],
+        };
+        let mut mass = vec![0.0; s.pattern.nnz()];
+        for e in 0..model.elements.len() {
+            s.gather_nodes(e, false);
+            let n = model.elements[e].nodes().len() * DOF_PER_NODE;
+            model.elements[e].lumped_mass(&s.gather, &mut s.k_local[..n * n]);
+            s.assembler.add_matrix(e, &s.k_local[..n * n], &mut mass);
+        }
+        s.mass = mass;
+        if a1 != 0.0 {
+            let mut k0 = vec![0.0; s.pattern.nnz()];
+            let mut g = vec![0.0; model.dofs.len()];
+            let zero = vec![0.0; model.dofs.len()];
+            s.internal(&zero, 0.0, &mut g, Some(&mut k0), None, false)?;
+            let transpose = s.pattern.transpose_indices();
+            s.damping = (0..k0.len()).map(|i| a1 * 0.5 * (k0[i] + k0[transpose[i]])).collect();
+        }
+        for (c, m) in s.damping.iter_mut().zip(&s.mass) {
+            *c += a0 * m;
+        }
+        Ok(s)
+    }
+
+    /// Dynamic-pressure factor of the wind at time `t`: a half-cosine rise
+    /// over the ramp time, then 1.
+    pub fn wind_factor(&self, t: f64) -> f64 {
+        if self.wind_ramp <= 0.0 || t >= self.wind_ramp {
+            1.0
+        } else if t <= 0.0 {
+            0.0
+        } else {
+            0.5 * (1.0 - (std::f64::consts::PI * t / self.wind_ramp).cos())
+        }
+    }
+
+    fn gather_nodes(&mut self, e: usize, trial: bool) {
+        let config = if trial { &self.trial } else { &self.committed };
+        self.gather.clear();
+        for &n in self.model.elements[e].nodes() {
+            self.gather.push(NodeState { x0: self.model.nodes[n], x: config.positions[n], rotation: config.rotations[n] });
+        }
+    }
+
+    fn node_velocity(&self, v: &[f64], node: usize) -> NodeVelocity {
+        node_velocity(self.model, v, node)
+    }
+
+    /// g, K, D at the trial (or committed) configuration.
+    fn internal(
+        &mut self,
+        v: &[f64],
+        t: f64,
+        g: &mut [f64],
+        mut k: Option<&mut [f64]>,
+        mut d: Option<&mut [f64]>,
+        with_wind: bool,
+    ) -> Result<(), EvalError> {
+        g.fill(0.0);
+        self.internal_force.fill(0.0);
+        self.aero_force.fill(0.0);
+        if let Some(k) = k.as_deref_mut() {
+            k.fill(0.0);
+        }
+        if let Some(d) = d.as_deref_mut() {
+            d.fill(0.0);
+        }
+        let ctx = ElementContext { temperature_change: self.model.temperature_change };
+        for e in 0..self.model.elements.len() {
+            self.gather_nodes(e, true);
+            let element = &self.model.elements[e];
+            let m = element.nodes().len() * DOF_PER_NODE;
+            match k.as_deref_mut() {
+                Some(k) => {
+                    element.tangent(&ctx, &self.gather, &mut self.f_local[..m], &mut self.k_local[..m * m]);
+                    self.assembler.add_matrix(e, &self.k_local[..m * m], k);
+                }
+                None => element.internal_force(&ctx, &self.gather, &mut self.f_local[..m]),
+            }
+            self.assembler.add_vector(e, &self.f_local[..m], &mut self.internal_force);
+        }
+        g.copy_from_slice(&self.internal_force);
+        for (i, eq) in self.model.dofs.all().iter().enumerate() {
+            if let Some(eq) = eq {
+                g[*eq] -= self.model.case_load[i];
+            }
+        }
+        let scale = self.wind_factor(t).sqrt();
+        if let (true, Some(wind), true) = (with_wind, self.model.wind, scale > 0.0) {
+            const M: usize = 2 * DOF_PER_NODE;
+            for e in 0..self.model.elements.len() {
+                let Some(aero) = &self.model.aero[e] else { continue };
+                self.gather_nodes(e, true);
+                let ids = self.model.elements[e].nodes();
+                let vel = [self.node_velocity(v, ids[0]), self.node_velocity(v, ids[1])];
+                let fail = |err: glaze_aero::TableError| EvalError { message: format!("aerodynamic load of element {e}: {err}") };
+                if let Some(k) = k.as_deref_mut() {
+                    element_jacobian(aero, &wind, scale, &self.gather, &vel, Derivative::Displacement, &mut self.f_local[..M], &mut self.k_local[..M * M])
+                        .map_err(fail)?;
+                    self.k_local[..M * M].iter_mut().for_each(|x| *x = -*x);
+                    self.assembler.add_matrix(e, &self.k_local[..M * M], k);
+                }
+                if let Some(d) = d.as_deref_mut() {
+                    element_jacobian(aero, &wind, scale, &self.gather, &vel, Derivative::Velocity, &mut self.f_local[..M], &mut self.k_local[..M * M])
+                        .map_err(fail)?;
+                    self.k_local[..M * M].iter_mut().for_each(|x| *x = -*x);
+                    self.assembler.add_matrix(e, &self.k_local[..M * M], d);
+                }
+                if k.is_none() && d.is_none() {
+                    element_load(aero, &wind, scale, &self.gather, &vel, &mut self.f_local[..M]).map_err(fail)?;
+                }
+                self.assembler.add_vector(e, &self.f_local[..M], &mut self.aero_force);
+            }
+            for (gi, fa) in g.iter_mut().zip(&self.aero_force) {
+                *gi -= fa;
+            }
+        }
+        if let Some(bad) = g.iter().position(|x| !x.is_finite()) {
+            return Err(EvalError { message: format!("non-finite force at equation {bad}") });
+        }
+        Ok(())
+    }
+
+    /// Applies `dq` to `base`, giving `out` (translations add, rotations compose).
+    fn compose(model: &Model, base: &Configuration, dq: &[f64], out: &mut Configuration) {
+        for n in 0..model.node_count() {
+            let mut theta = Vector3::zeros();
+            out.positions[n] = base.positions[n];
+            for d in 0..DOF_PER_NODE {
+                if let Some(eq) = model.dofs.equation(n, d) {
+                    if d < 3 {
+                        out.positions[n][d] += dq[eq];
+                    } else {
+                        theta[d - 3] = dq[eq];
+                    }
+                }
+            }
+            out.rotations[n] = if theta == Vector3::zeros() { base.rotations[n] } else { so3::exp(&theta) * base.rotations[n] };
+        }
+    }
+
+    /// The model.
+    pub fn model(&self) -> &Model {
+        self.model
+    }
+}
+
+impl SecondOrderSystem for DynamicSystem<'_> {
+    fn dim(&self) -> usize {
+        self.model.dofs.len()
+    }
+
+    fn pattern(&self) -> &SparsityPattern {
+        &self.pattern
+    }
+
+    fn mass(&self) -> &[f64] {
+        &self.mass
+    }
+
+    fn damping(&self) -> &[f64] {
+        &self.damping
+    }
+
+    fn set_increment(&mut self, dq: &[f64]) {
+        let model = self.model;
+        Self::compose(model, &self.committed, dq, &mut self.trial);
+    }
+
+    fn evaluate(&mut self, t: f64, v: &[f64], g: &mut [f64], stiffness: Option<&mut [f64]>, damping: Option<&mut [f64]>) -> Result<(), EvalError> {
+        self.internal(v, t, g, stiffness, damping, true)
+    }
+
+    fn commit(&mut self) {
+        self.committed.clone_from(&self.trial);
+    }
+
+    fn reject(&mut self) {
+        self.trial.clone_from(&self.committed);
+    }
+}
+
+/// Velocity and angular velocity of `node` from the equation-space velocity `v`.
+pub(crate) fn node_velocity(model: &Model, v: &[f64], node: usize) -> NodeVelocity {
+    let mut out = NodeVelocity::default();
+    for d in 0..DOF_PER_NODE {
+        if let Some(eq) = model.dofs.equation(node, d) {
+            if d < 3 {
+                out.velocity[d] = v[eq];
+            } else {
+                out.angular[d - 3] = v[eq];
+            }
+        }
+    }
+    out
+}

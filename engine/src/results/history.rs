@@ -1,0 +1,178 @@
+//! Streaming of `/dynamic` histories: extendible datasets chunked along
+//! time and deflate-compressed, appended a block of records at a time so a
+//! run of any length needs memory for one block only.
+
+use super::hdf5_file::ResultsWriter;
+use crate::error::GlazeError;
+use hdf5::types::VarLenUnicode;
+use ndarray::{s, Array1, Array2, Array3};
+use std::path::PathBuf;
+
+/// Records buffered before each write (and the chunk length along time).
+const BLOCK: usize = 64;
+
+/// Names of the `/dynamic/energy` columns.
+pub const ENERGY_COLUMNS: [&str; 5] =
+    ["kinetic", "strain", "gravity_potential", "dissipated", "aerodynamic_work"];
+
+/// One recorded state.
+#[derive(Clone, Debug, Default)]
+pub struct Record {
+    /// Time, in s.
+    pub time: f64,
+    /// Displacement from `/static/position` per node, in m.
+    pub displacement: Vec<[f64; 3]>,
+    /// Rotation per node from the reference triad, quaternion (w, x, y, z).
+    pub rotation: Vec<[f64; 4]>,
+    /// Velocity per node, in m/s.
+    pub velocity: Vec<[f64; 3]>,
+    /// Axial force per element, in N.
+    pub axial_force: Vec<f64>,
+    /// Force of each support on its node, in N.
+    pub support_force: Vec<[f64; 3]>,
+    /// Energy terms in [`ENERGY_COLUMNS`] order, in J.
+    pub energy: [f64; 5],
+}
+
+/// Appends records to `/dynamic`.
+pub struct HistoryWriter {
+    time: hdf5::Dataset,
+    displacement: hdf5::Dataset,
+    rotation: hdf5::Dataset,
+    velocity: hdf5::Dataset,
+    axial: hdf5::Dataset,
+    support: hdf5::Dataset,
+    energy: hdf5::Dataset,
+    buffer: Vec<Record>,
+    written: usize,
+    nodes: usize,
+    elements: usize,
+    supports: usize,
+    path: PathBuf,
+}
+
+fn err(path: &std::path::Path, e: impl std::fmt::Display) -> GlazeError {
+    GlazeError::Results { path: path.to_path_buf(), message: e.to_string() }
+}
+
+fn extendible(
+    g: &hdf5::Group,
+    name: &str,
+    inner: &[usize],
+    unit: &str,
+    path: &std::path::Path,
+) -> Result<hdf5::Dataset, GlazeError> {
+    let b = g.new_dataset::<f64>().deflate(4);
+    let ds = match inner {
+        [] => b.chunk((BLOCK,)).shape((0..,)).create(name),
+        [a] => b.chunk((BLOCK, (*a).max(1))).shape((0.., *a)).create(name),
+        [a, c] => b.chunk((BLOCK, (*a).max(1), *c)).shape((0.., *a, *c)).create(name),
+        _ => unreachable!("histories have at most two inner dimensions"),
+    }
+    .map_err(|e| err(path, e))?;
+    let unit: VarLenUnicode = unit.parse().unwrap_or_default();
+    ds.new_attr::<VarLenUnicode>()
+        .create("unit")
+        .and_then(|a| a.write_scalar(&unit))
+        .map_err(|e| err(path, e))?;
+    Ok(ds)
+}
+
+impl HistoryWriter {
+    /// Creates `/dynamic` in `results` for `nodes` nodes, `elements`
+    /// elements and `supports` supported nodes.
+    pub fn create(
+        results: &ResultsWriter,
+        nodes: usize,
+        elements: usize,
+        supports: usize,
+    ) -> Result<Self, GlazeError> {
+        let path = results.target().to_path_buf();
+        let g = results.file().create_group("dynamic").map_err(|e| err(&path, e))?;
+        let energy = extendible(&g, "energy", &[ENERGY_COLUMNS.len()], "J", &path)?;
+        let columns: Array1<VarLenUnicode> =
+            ENERGY_COLUMNS.iter().map(|c| c.parse().unwrap_or_default()).collect();
+        energy.new_attr_builder().with_data(columns.view()).create("columns").map_err(|e| err(&path, e))?;
+        Ok(Self {
+            time: extendible(&g, "time", &[], "s", &path)?,
+            displacement: extendible(&g, "displacement", &[nodes, 3], "m", &path)?,
+            rotation: extendible(&g, "rotation", &[nodes, 4], "1", &path)?,
+            velocity: extendible(&g, "velocity", &[nodes, 3], "m/s", &path)?,
+            axial: extendible(&g, "element_axial_force", &[elements], "N", &path)?,
+            support: extendible(&g, "support_force", &[supports, 3], "N", &path)?,
+            energy,
+            buffer: Vec::with_capacity(BLOCK),
+            written: 0,
+            nodes,
+            elements,
+            supports,
+            path,
+        })
+    }
+
+    /// Buffers one record; writes the block when full.
+    pub fn push(&mut self, record: Record) -> Result<(), GlazeError> {
+        self.buffer.push(record);
+        if self.buffer.len() == BLOCK {
+            self.flush()?;
+        }
+        Ok(())
+    }
+
+    /// Records written or buffered so far.
+    pub fn len(&self) -> usize {
+        self.written + self.buffer.len()
+    }
+
+    /// Whether nothing was recorded.
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// Writes the buffered records.
+    pub fn flush(&mut self) -> Result<(), GlazeError> {
+        let k = self.buffer.len();
+        if k == 0 {
+            return Ok(());
+        }
+        let (a, b) = (self.written, self.written + k);
+        let (n, e, sn) = (self.nodes, self.elements, self.supports);
+        let p = &self.path;
+        let buf = &self.buffer;
+        let time: Array1<f64> = buf.iter().map(|r| r.time).collect();
+        let disp = Array3::from_shape_fn((k, n, 3), |(t, i, d)| buf[t].displacement[i][d]);
+        let rot = Array3::from_shape_fn((k, n, 4), |(t, i, d)| buf[t].rotation[i][d]);
+        let vel = Array3::from_shape_fn((k, n, 3), |(t, i, d)| buf[t].velocity[i][d]);
+        let axial = Array2::from_shape_fn((k, e), |(t, i)| buf[t].axial_force[i]);
+        let sup = Array3::from_shape_fn((k, sn, 3), |(t, i, d)| buf[t].support_force[i][d]);
+        let energy = Array2::from_shape_fn((k, ENERGY_COLUMNS.len()), |(t, c)| buf[t].energy[c]);
+        self.time.resize((b,)).and_then(|_| self.time.write_slice(&time, s![a..b])).map_err(|x| err(p, x))?;
+        self.displacement
+            .resize((b, n, 3))
+            .and_then(|_| self.displacement.write_slice(&disp, s![a..b, .., ..]))
+            .map_err(|x| err(p, x))?;
+        self.rotation
+            .resize((b, n, 4))
+            .and_then(|_| self.rotation.write_slice(&rot, s![a..b, .., ..]))
+            .map_err(|x| err(p, x))?;
+        self.velocity
+            .resize((b, n, 3))
+            .and_then(|_| self.velocity.write_slice(&vel, s![a..b, .., ..]))
+            .map_err(|x| err(p, x))?;
+        self.axial
+            .resize((b, e))
+            .and_then(|_| self.axial.write_slice(&axial, s![a..b, ..]))
+            .map_err(|x| err(p, x))?;
+        self.support
+            .resize((b, sn, 3))
+            .and_then(|_| self.support.write_slice(&sup, s![a..b, .., ..]))
+            .map_err(|x| err(p, x))?;
+        self.energy
+            .resize((b, ENERGY_COLUMNS.len()))
+            .and_then(|_| self.energy.write_slice(&energy, s![a..b, ..]))
+            .map_err(|x| err(p, x))?;
+        self.written = b;
+        self.buffer.clear();
+        Ok(())
+    }
+}
