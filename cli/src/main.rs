@@ -86,7 +86,7 @@ fn main() -> ExitCode {
         Command::Modes { file, count, out, method } => {
             commands::run_modes(file, *count, *method, out, cli.quiet)
         }
-        Command::Run { .. } => unimplemented!(),
+        Command::Run { file, out } => commands::run(file, out, cli.quiet),
         Command::Screen { file, format } => commands::run_screen(file, *format),
     };
     match result {

@@ -2,11 +2,13 @@
 
 mod check;
 mod modes;
+mod run;
 mod screen;
 mod static_cmd;
 
 pub use check::check;
 pub use modes::{run_modes, SolverChoice};
+pub use run::run;
 pub use screen::{run_screen, ScreenFormat};
 pub use static_cmd::run_static;
 

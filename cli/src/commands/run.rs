@@ -49,7 +49,13 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
     let mut last_log = Instant::now();
     let mut on_progress = |p: Progress| {
         let rate = p.steps as f64 / start.elapsed().as_secs_f64().max(1e-9);
-        let msg = format!("t = {:.2} / {:.2} s, {:.0} steps/s, {:.2} Newton it./step", p.time, p.duration, rate, p.iterations as f64 / p.steps.max(1) as f64);
+        let msg = format!(
+            "t = {:.2} / {:.2} s, {:.0} steps/s, {:.2} Newton it./step",
+            p.time,
+            p.duration,
+            rate,
+            p.iterations as f64 / p.steps.max(1) as f64
+        );
         match &bar {
             Some(b) => {
                 b.set_position((1000.0 * p.time / p.duration.max(1e-12)) as u64);

@@ -64,7 +64,11 @@ pub fn run_dynamic(
 ) -> Result<DynamicSummary, GlazeError> {
     let loc = Locator::new(&spec.file, &spec.source);
     let dynamics = spec.dynamics.as_ref().ok_or_else(|| {
-        loc.error(InputErrorKind::MissingKey, "dynamics", "a run needs a [dynamics] table: duration, time_step, output_interval, …")
+        loc.error(
+            InputErrorKind::MissingKey,
+            "dynamics",
+            "a run needs a [dynamics] table: duration, time_step, output_interval, …",
+        )
     })?;
     let model = model::build(spec, registry)?;
     // With a wind ramp the run starts from the state without wind.
@@ -89,7 +93,16 @@ pub fn run_dynamic(
     let modes = if needed > 0 {
         let lin = Linearisation::about(&static_model, &state.config)?;
         if needed > lin.mode_capacity() {
-            return Err(loc.error(InputErrorKind::InvalidValue, "dynamics", format!("mode {needed} is asked for, but the model has only {} modes", lin.mode_capacity())).into());
+            return Err(loc
+                .error(
+                    InputErrorKind::InvalidValue,
+                    "dynamics",
+                    format!(
+                        "mode {needed} is asked for, but the model has only {} modes",
+                        lin.mode_capacity()
+                    ),
+                )
+                .into());
         }
         Some((lin.solve(&ModalSettings::new(needed))?, lin))
     } else {
@@ -98,14 +111,16 @@ pub fn run_dynamic(
     let rayleigh = match (dynamics.damping, &modes) {
         (DampingSpec::Fit { modes: m, ratios }, Some((set, _))) => {
             let omega = [set.omega_squared[m[0] - 1].sqrt(), set.omega_squared[m[1] - 1].sqrt()];
-            Rayleigh::fit(omega, ratios).map_err(|e| loc.error(InputErrorKind::InvalidValue, "dynamics.damping", e))?
+            Rayleigh::fit(omega, ratios)
+                .map_err(|e| loc.error(InputErrorKind::InvalidValue, "dynamics.damping", e))?
         }
         (DampingSpec::Coefficients(a0, a1), _) => Rayleigh { mass: a0, stiffness: a1 },
         _ => Rayleigh { mass: 0.0, stiffness: 0.0 },
     };
 
-    let mut system = DynamicSystem::new(&model, &state.config, rayleigh.mass, rayleigh.stiffness, dynamics.wind_ramp)
-        .map_err(|e| GlazeError::Analysis { message: format!("dynamic system: {}", e.message) })?;
+    let mut system =
+        DynamicSystem::new(&model, &state.config, rayleigh.mass, rayleigh.stiffness, dynamics.wind_ramp)
+            .map_err(|e| GlazeError::Analysis { message: format!("dynamic system: {}", e.message) })?;
     if let (Some((mode, amplitude)), Some((set, lin))) = (dynamics.perturbation, &modes) {
         let phi = &set.vectors[mode - 1];
         let peak = lin
@@ -123,18 +138,14 @@ pub fn run_dynamic(
 }
 
 fn settings(d: &DynamicsSpec) -> IntegratorSettings {
-    IntegratorSettings {
-        scheme: match d.scheme {
-            SchemeSpec::Hht(alpha) => Scheme::Hht { alpha },
-            SchemeSpec::GeneralizedAlpha(rho_inf) => Scheme::GeneralizedAlpha { rho_inf },
-        },
-        dt: d.time_step,
-        min_dt: d.time_step / 1024.0,
-        max_dt: d.time_step,
-        newton: NewtonSettings { max_iterations: 20, residual_tolerance: 1e-8, ..NewtonSettings::default() },
-        modified_newton: d.modified_newton,
-        reuse_ratio: 0.25,
-    }
+    let scheme = match d.scheme {
+        SchemeSpec::Hht(alpha) => Scheme::Hht { alpha },
+        SchemeSpec::GeneralizedAlpha(rho_inf) => Scheme::GeneralizedAlpha { rho_inf },
+    };
+    let mut s = IntegratorSettings::new(scheme, d.time_step);
+    s.newton = NewtonSettings { max_iterations: 20, residual_tolerance: 1e-8, ..NewtonSettings::default() };
+    s.modified_newton = d.modified_newton;
+    s
 }
 
 /// Energy bookkeeping between steps (trapezoidal rule).
@@ -165,7 +176,8 @@ fn integrate(
     rayleigh: Rayleigh,
 ) -> Result<DynamicSummary, GlazeError> {
     let n = model.dofs.len();
-    let mut history = HistoryWriter::create(writer, model.node_count(), model.elements.len(), model.support_nodes.len())?;
+    let mut history =
+        HistoryWriter::create(writer, model.node_count(), model.elements.len(), model.support_nodes.len())?;
     let first_config = system.committed.clone();
     let first_config_positions = first_config.positions.clone();
     let mut integ = Integrator::new(system, vec![0.0; n], 0.0, settings(d))
@@ -192,12 +204,17 @@ fn integrate(
             break;
         }
         let t_k = (k as f64 * d.output_interval).min(d.duration);
-        integ
-            .advance_to(t_k, |i, _| accumulate(model, i, &mut energy))
-            .map_err(|e| GlazeError::Analysis { message: failure_report(spec, model, &integ_time(&energy), e) })?;
+        integ.advance_to(t_k, |i, _| accumulate(model, i, &mut energy)).map_err(|e| {
+            GlazeError::Analysis { message: failure_report(spec, model, &integ_time(&energy), e) }
+        })?;
         history.push(record(model, start, &integ, &mut energy))?;
         let stats = integ.stats();
-        progress(Progress { time: t_k, duration: d.duration, steps: stats.steps, iterations: stats.newton_iterations });
+        progress(Progress {
+            time: t_k,
+            duration: d.duration,
+            steps: stats.steps,
+            iterations: stats.newton_iterations,
+        });
     }
     history.flush()?;
     let stats = integ.stats();
@@ -218,7 +235,12 @@ fn integ_time(e: &Energy) -> f64 {
     e.time
 }
 
-fn failure_report(spec: &SectionSpec, model: &Model, last_good: &f64, e: glaze_solvers::SolverError) -> String {
+fn failure_report(
+    spec: &SectionSpec,
+    model: &Model,
+    last_good: &f64,
+    e: glaze_solvers::SolverError,
+) -> String {
     format!(
         "the dynamic run of {} stopped after t = {last_good:.4} s: {e}. Try a smaller [dynamics] time_step, more elements per span, \
          or check the aerodynamic tables ({} nodes, {} elements)",
@@ -235,7 +257,8 @@ fn accumulate(model: &Model, integ: &Integrator<DynamicSystem<'_>>, e: &mut Ener
     let v = integ.velocity();
     let h = integ.time() - e.time;
     let dq = increment(model, &e.config, &sys.committed);
-    e.strain += 0.5 * dq.iter().zip(e.f_int.iter().zip(&sys.internal_force)).map(|(q, (a, b))| q * (a + b)).sum::<f64>();
+    e.strain += 0.5
+        * dq.iter().zip(e.f_int.iter().zip(&sys.internal_force)).map(|(q, (a, b))| q * (a + b)).sum::<f64>();
     let mut cv = vec![0.0; v.len()];
     sys.pattern().mul_vec(sys.damping(), v, &mut cv);
     let mut cv0 = vec![0.0; v.len()];
@@ -260,14 +283,20 @@ fn increment(model: &Model, a: &Configuration, b: &Configuration) -> Vec<f64> {
         let theta = so3::log(&(b.rotations[node] * a.rotations[node].transpose()));
         for dof in 0..DOF_PER_NODE {
             if let Some(eq) = model.dofs.equation(node, dof) {
-                dq[eq] = if dof < 3 { b.positions[node][dof] - a.positions[node][dof] } else { theta[dof - 3] };
+                dq[eq] =
+                    if dof < 3 { b.positions[node][dof] - a.positions[node][dof] } else { theta[dof - 3] };
             }
         }
     }
     dq
 }
 
-fn record(model: &Model, start: &Configuration, integ: &Integrator<DynamicSystem<'_>>, e: &mut Energy) -> Record {
+fn record(
+    model: &Model,
+    start: &Configuration,
+    integ: &Integrator<DynamicSystem<'_>>,
+    e: &mut Energy,
+) -> Record {
     let sys = integ.system();
     let config = &sys.committed;
     let v = integ.velocity();
@@ -286,11 +315,19 @@ fn record(model: &Model, start: &Configuration, integ: &Integrator<DynamicSystem
     // Potential of the constant nodal loads (weight), from the first state.
     let gravity: f64 = -(0..nn)
         .flat_map(|node| (0..3).map(move |dof| (node, dof)))
-        .map(|(node, dof)| model.case_load[node * DOF_PER_NODE + dof] * (config.positions[node][dof] - e.origin[node][dof]))
+        .map(|(node, dof)| {
+            model.case_load[node * DOF_PER_NODE + dof] * (config.positions[node][dof] - e.origin[node][dof])
+        })
         .sum::<f64>();
     let total = kinetic + e.strain + gravity + e.dissipated - e.aero_work;
     let initial = *e.initial_total.get_or_insert(total);
-    let scale = kinetic.abs().max(e.strain.abs()).max(gravity.abs()).max(e.dissipated).max(e.aero_work.abs()).max(f64::MIN_POSITIVE);
+    let scale = kinetic
+        .abs()
+        .max(e.strain.abs())
+        .max(gravity.abs())
+        .max(e.dissipated)
+        .max(e.aero_work.abs())
+        .max(f64::MIN_POSITIVE);
     if kinetic + e.dissipated + e.aero_work.abs() > 0.0 {
         e.worst = e.worst.max((total - initial).abs() / scale);
     }
@@ -302,14 +339,20 @@ fn record(model: &Model, start: &Configuration, integ: &Integrator<DynamicSystem
             let nodes: Vec<NodeState> = el
                 .nodes()
                 .iter()
-                .map(|&n| NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] })
+                .map(|&n| NodeState {
+                    x0: model.nodes[n],
+                    x: config.positions[n],
+                    rotation: config.rotations[n],
+                })
                 .collect();
             el.output(&ctx, &nodes).axial_force
         })
         .collect();
     Record {
         time: integ.time(),
-        displacement: (0..nn).map(|i| std::array::from_fn(|d| config.positions[i][d] - start.positions[i][d])).collect(),
+        displacement: (0..nn)
+            .map(|i| std::array::from_fn(|d| config.positions[i][d] - start.positions[i][d]))
+            .collect(),
         rotation: config
             .rotations
             .iter()
@@ -328,13 +371,22 @@ fn record(model: &Model, start: &Configuration, integ: &Integrator<DynamicSystem
 
 /// Force of each support on its node: internal force less the nodal
 /// loads there (weight and wind on the supported node), in N.
-fn support_forces(model: &Model, config: &Configuration, sys: &DynamicSystem<'_>, v: &[f64], t: f64) -> Vec<[f64; 3]> {
+fn support_forces(
+    model: &Model,
+    config: &Configuration,
+    sys: &DynamicSystem<'_>,
+    v: &[f64],
+    t: f64,
+) -> Vec<[f64; 3]> {
     let ctx = ElementContext { temperature_change: model.temperature_change };
     let mut full = vec![0.0; model.node_count() * DOF_PER_NODE];
     let mut f = vec![0.0; 12];
     for el in &model.elements {
-        let nodes: Vec<NodeState> =
-            el.nodes().iter().map(|&n| NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] }).collect();
+        let nodes: Vec<NodeState> = el
+            .nodes()
+            .iter()
+            .map(|&n| NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] })
+            .collect();
         let m = nodes.len() * DOF_PER_NODE;
         f.resize(m, 0.0);
         el.internal_force(&ctx, &nodes, &mut f[..m]);
@@ -352,10 +404,17 @@ fn support_forces(model: &Model, config: &Configuration, sys: &DynamicSystem<'_>
             if !ids.iter().any(|&n| model.restrained[n].iter().any(|&r| r)) {
                 continue;
             }
-            let nodes: Vec<NodeState> =
-                ids.iter().map(|&n| NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] }).collect();
+            let nodes: Vec<NodeState> = ids
+                .iter()
+                .map(|&n| NodeState {
+                    x0: model.nodes[n],
+                    x: config.positions[n],
+                    rotation: config.rotations[n],
+                })
+                .collect();
             let vel = [node_velocity(model, v, ids[0]), node_velocity(model, v, ids[1])];
-            if crate::aero_loads::element_load(aero, &wind, scale, &nodes, &vel, &mut f[..12]).is_ok() {
+            let mut f = [0.0; 2 * DOF_PER_NODE];
+            if crate::aero_loads::element_load(aero, &wind, scale, &nodes, &vel, &mut f).is_ok() {
                 for (a, &n) in ids.iter().enumerate() {
                     for d in 0..DOF_PER_NODE {
                         full[n * DOF_PER_NODE + d] -= f[a * DOF_PER_NODE + d];
@@ -370,4 +429,3 @@ fn support_forces(model: &Model, config: &Configuration, sys: &DynamicSystem<'_>
         .map(|&n| std::array::from_fn(|d| full[n * DOF_PER_NODE + d] - model.case_load[n * DOF_PER_NODE + d]))
         .collect()
 }
-

@@ -48,8 +48,15 @@ pub struct DynamicSystem<'m> {
 impl<'m> DynamicSystem<'m> {
     /// Sets up the system at `start` with Rayleigh coefficients `a0`
     /// (1/s) and `a1` (s); `wind_ramp` in s (0: full wind from t = 0).
-    pub fn new(model: &'m Model, start: &Configuration, a0: f64, a1: f64, wind_ramp: f64) -> Result<Self, EvalError> {
-        let groups: Vec<Vec<Option<usize>>> = model.elements.iter().map(|e| model.dofs.element_equations(e.nodes())).collect();
+    pub fn new(
+        model: &'m Model,
+        start: &Configuration,
+        a0: f64,
+        a1: f64,
+        wind_ramp: f64,
+    ) -> Result<Self, EvalError> {
+        let groups: Vec<Vec<Option<usize>>> =
+            model.elements.iter().map(|e| model.dofs.element_equations(e.nodes())).collect();
         let pattern = SparsityPattern::from_dof_groups(model.dofs.len(), groups.iter().map(|g| g.as_slice()));
         let assembler = Assembler::new(&pattern, groups.iter().map(|g| g.as_slice()));
         let max_nodes = model.elements.iter().map(|e| e.nodes().len()).max().unwrap_or(2).max(2);
@@ -107,7 +114,11 @@ impl<'m> DynamicSystem<'m> {
         let config = if trial { &self.trial } else { &self.committed };
         self.gather.clear();
         for &n in self.model.elements[e].nodes() {
-            self.gather.push(NodeState { x0: self.model.nodes[n], x: config.positions[n], rotation: config.rotations[n] });
+            self.gather.push(NodeState {
+                x0: self.model.nodes[n],
+                x: config.positions[n],
+                rotation: config.rotations[n],
+            });
         }
     }
 
@@ -162,21 +173,42 @@ impl<'m> DynamicSystem<'m> {
                 self.gather_nodes(e, true);
                 let ids = self.model.elements[e].nodes();
                 let vel = [self.node_velocity(v, ids[0]), self.node_velocity(v, ids[1])];
-                let fail = |err: glaze_aero::TableError| EvalError { message: format!("aerodynamic load of element {e}: {err}") };
+                let fail = |err: glaze_aero::TableError| EvalError {
+                    message: format!("aerodynamic load of element {e}: {err}"),
+                };
                 if let Some(k) = k.as_deref_mut() {
-                    element_jacobian(aero, &wind, scale, &self.gather, &vel, Derivative::Displacement, &mut self.f_local[..M], &mut self.k_local[..M * M])
-                        .map_err(fail)?;
+                    element_jacobian(
+                        aero,
+                        &wind,
+                        scale,
+                        &self.gather,
+                        &vel,
+                        Derivative::Displacement,
+                        &mut self.f_local[..M],
+                        &mut self.k_local[..M * M],
+                    )
+                    .map_err(fail)?;
                     self.k_local[..M * M].iter_mut().for_each(|x| *x = -*x);
                     self.assembler.add_matrix(e, &self.k_local[..M * M], k);
                 }
                 if let Some(d) = d.as_deref_mut() {
-                    element_jacobian(aero, &wind, scale, &self.gather, &vel, Derivative::Velocity, &mut self.f_local[..M], &mut self.k_local[..M * M])
-                        .map_err(fail)?;
+                    element_jacobian(
+                        aero,
+                        &wind,
+                        scale,
+                        &self.gather,
+                        &vel,
+                        Derivative::Velocity,
+                        &mut self.f_local[..M],
+                        &mut self.k_local[..M * M],
+                    )
+                    .map_err(fail)?;
                     self.k_local[..M * M].iter_mut().for_each(|x| *x = -*x);
                     self.assembler.add_matrix(e, &self.k_local[..M * M], d);
                 }
                 if k.is_none() && d.is_none() {
-                    element_load(aero, &wind, scale, &self.gather, &vel, &mut self.f_local[..M]).map_err(fail)?;
+                    element_load(aero, &wind, scale, &self.gather, &vel, &mut self.f_local[..M])
+                        .map_err(fail)?;
                 }
                 self.assembler.add_vector(e, &self.f_local[..M], &mut self.aero_force);
             }
@@ -204,7 +236,11 @@ impl<'m> DynamicSystem<'m> {
                     }
                 }
             }
-            out.rotations[n] = if theta == Vector3::zeros() { base.rotations[n] } else { so3::exp(&theta) * base.rotations[n] };
+            out.rotations[n] = if theta == Vector3::zeros() {
+                base.rotations[n]
+            } else {
+                so3::exp(&theta) * base.rotations[n]
+            };
         }
     }
 
@@ -236,7 +272,14 @@ impl SecondOrderSystem for DynamicSystem<'_> {
         Self::compose(model, &self.committed, dq, &mut self.trial);
     }
 
-    fn evaluate(&mut self, t: f64, v: &[f64], g: &mut [f64], stiffness: Option<&mut [f64]>, damping: Option<&mut [f64]>) -> Result<(), EvalError> {
+    fn evaluate(
+        &mut self,
+        t: f64,
+        v: &[f64],
+        g: &mut [f64],
+        stiffness: Option<&mut [f64]>,
+        damping: Option<&mut [f64]>,
+    ) -> Result<(), EvalError> {
         self.internal(v, t, g, stiffness, damping, true)
     }
 

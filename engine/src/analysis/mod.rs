@@ -1,5 +1,7 @@
 //! Analysis stages.
 
+pub mod dynamic_stage;
+pub mod dynamic_system;
 pub mod modal;
 pub mod mode_shape;
 pub mod rayleigh;

@@ -15,6 +15,10 @@ const SNAP_FRACTION: f64 = 1e-6;
 /// A gap to `t_end` below this fraction of the step is absorbed (time set to
 /// `t_end` without a step).
 const ABSORB_FRACTION: f64 = 1e-9;
+/// Modified Newton keeps a factor of S for step sizes within this relative
+/// difference (S changes by about twice as much): a final step stretched or
+/// shortened by round-off to land on `t_end` does not refactor.
+const SAME_STEP_FRACTION: f64 = 1e-9;
 
 /// First guess of the increment Δq of a step.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -596,7 +600,8 @@ impl<S: SecondOrderSystem> Integrator<S> {
                 return Err(SolverError::NonFinite { lambda: f64::NAN, dof });
             }
             self.system.set_increment(&self.dq);
-            let factor_held = modified && self.factor_h == Some(h);
+            let factor_held =
+                modified && self.factor_h.is_some_and(|hf| (hf - h).abs() <= SAME_STEP_FRACTION * h);
             let mut have_tangent = !factor_held;
             self.evaluate(t1, have_tangent)?;
             let pattern = self.system.pattern();
@@ -660,7 +665,10 @@ impl<S: SecondOrderSystem> Integrator<S> {
             for i in 0..n {
                 self.delta[i] = -self.r[i];
             }
-            self.solver.solve_in_place(&mut self.delta)?;
+            if let Err(e) = self.solver.solve_in_place(&mut self.delta) {
+                self.factor_h = None; // a factor that fails its solve checks is not reused
+                return Err(e);
+            }
             let mut len = norm_inf(&self.delta);
             if !len.is_finite() {
                 return Err(SolverError::NonFinite { lambda: f64::NAN, dof: arg_max_abs(&self.delta) });

@@ -2,70 +2,94 @@
 //!
 //! **Spectral transformation.** With $A = K - \sigma M$ factorised once by
 //! [`SparseDirect`] (one symbolic and one numeric factorisation: LLᵀ when
-//! σ is below the spectrum, LU with partial pivoting when $A$ is
-//! indefinite), the operator $\mathrm{Op} = A^{-1}M$ is self-adjoint in the
-//! M inner product $\langle x, y\rangle_M = x^\top M y$ and has the
-//! eigenpairs $(\mu, \varphi)$ with $\mu = 1/(\lambda - \sigma)$ (Ericsson &
-//! Ruhe 1980, "The spectral transformation Lanczos method for the numerical
-//! solution of large sparse generalized symmetric eigenvalue problems",
-//! Math. Comp. 35). The eigenvalues closest above σ are the largest μ, which
-//! Lanczos finds first; λ below σ give μ < 0 and are never wanted.
+//! σ is below the spectrum; when $A$ is indefinite faer's LLᵀ stops at a
+//! negative pivot and LU with partial pivoting is used), the operator
+//! $\mathrm{Op} = A^{-1}M$ has the eigenpairs $(\mu, \varphi)$ with
+//! $\mu = 1/(\lambda - \sigma)$ (Ericsson & Ruhe 1980, "The spectral
+//! transformation Lanczos method for the numerical solution of large sparse
+//! generalized symmetric eigenvalue problems", Math. Comp. 35). The
+//! eigenvalues closest above σ are the largest μ, which Lanczos finds first;
+//! λ below σ give μ < 0 and are never wanted.
 //!
-//! **Iteration.** Lanczos in the M inner product with full
+//! **Inner product.** Op is self-adjoint in every inner product
+//! $\langle x, y\rangle_B = x^\top B y$ with $B = K - \tau M$, because
+//! $(K - \tau M)A^{-1}M = M + (\sigma - \tau) M A^{-1} M$ is symmetric. The
+//! iteration uses $B = A = K - \sigma M$ when that is positive definite (the
+//! usual case, σ below the spectrum; no extra matrix) and $B = K + |\sigma| M$
+//! when A is indefinite (σ inside the spectrum; positive definite for a
+//! positive semi-definite K). The M inner product, the textbook choice, is
+//! only semi-definite when M is singular; see below why it is not used.
+//!
+//! **Iteration.** Lanczos in the B inner product with full
 //! reorthogonalisation: every new vector is orthogonalised against the
 //! locked vectors and the whole basis by classical Gram–Schmidt applied
 //! twice ("twice is enough", Parlett, "The Symmetric Eigenvalue Problem",
-//! §6.9, after Kahan). The projected matrix $H = V^\top M\,\mathrm{Op}\,V$ is
-//! taken from the Gram–Schmidt coefficients, so it is the actual Rayleigh
-//! quotient of the computed basis. When the basis is full it is thick
-//! restarted (Wu & Simon 2000, "Thick-restart Lanczos method for large
-//! symmetric eigenvalue problems", SIAM J. Matrix Anal. Appl. 22; for the
-//! symmetric case the same as Stewart's 2001 Krylov–Schur restart): the Ritz
-//! vectors of the largest Ritz values are kept (the wanted ones still
-//! unconverged plus half of the remaining room), with the residual vector
-//! as the next basis vector, and $H$ becomes diagonal plus one coupling row.
+//! §6.9, after Kahan), with B·v stored for every basis vector so each step
+//! costs one solve and one sparse product with B. The projected matrix
+//! $H = V^\top B\,\mathrm{Op}\,V$ is taken from the Gram–Schmidt coefficients,
+//! so it is the actual Rayleigh quotient of the computed basis. When the
+//! basis is full it is thick restarted (Wu & Simon 2000, "Thick-restart
+//! Lanczos method for large symmetric eigenvalue problems", SIAM J. Matrix
+//! Anal. Appl. 22; for the symmetric case the same as Stewart's 2001
+//! Krylov–Schur restart): the Ritz vectors of the largest Ritz values are kept
+//! (the wanted ones still unconverged plus half of the remaining room), with
+//! the residual vector as the next basis vector, and $H$ becomes diagonal
+//! plus one coupling row. After an invariant subspace (β ≈ 0) the iteration
+//! continues from a fresh pseudo-random vector orthogonal to the basis.
 //!
 //! **Acceptance and locking.** A Ritz pair is accepted on its *true*
 //! residual $\|K\varphi - \lambda M\varphi\| / (\|K\varphi\| + |\lambda|\|M\varphi\|)$
 //! with the original K and M, λ its Rayleigh quotient, when it is within
 //! [`EigenSettings::tolerance`] or within the rounding floor of evaluating the
 //! residual itself (≈ ε·‖K‖/(λ‖M‖); the lowest modes of a stiff model cannot
-//! do better). Accepted pairs are locked: removed from the active basis, kept
-//! as a set every new vector is orthogonalised against.
+//! do better). Locking (removing the pair from the active basis; every new
+//! vector is then orthogonalised against it) drops the pair's coupling
+//! β·s_m to the rest of the basis, a perturbation of Op of that size, so a
+//! pair is locked only once its Ritz residual β|s_m| is also below
+//! 0.01·tolerance·μ (or at rounding level): otherwise the other copy of a
+//! repeated eigenvalue could not reach the tolerance afterwards.
 //!
 //! **Missed copies of repeated eigenvalues.** A Krylov space from one start
 //! vector holds one direction of each eigenspace, so a second copy of a
 //! repeated eigenvalue appears only from rounding. When `count` pairs are
 //! locked the iteration therefore starts again from a fresh random vector,
 //! orthogonal to the locked ones, and stops only when the largest Ritz value
-//! of that new space has converged to an eigenvalue not below the largest
-//! locked one (or the space is exhausted). A smaller one found this way
-//! replaces the largest locked pair and the check repeats. Finally one
-//! Rayleigh–Ritz step on the span of the returned vectors makes them
-//! M-orthonormal to rounding.
+//! θ of that new space is converged (Ritz residual ‖r‖ ≤ 1e-6·θ) with
+//! θ + ‖r‖ not above the smallest locked μ, or has converged to an
+//! eigenvalue equal to the largest locked one, or the space is exhausted. A
+//! smaller eigenvalue found this way replaces the largest locked pair and the
+//! check repeats. Finally one Rayleigh–Ritz step on the span of the returned
+//! vectors (in K and M) makes them M-orthonormal to rounding.
 //!
 //! **Singular M (massless DOF).** Chosen approach: *no explicit
-//! condensation*; the spectral transformation with purification does the
-//! condensation implicitly. M is never inverted and the M inner product is
-//! only used on range(Op), where it is definite whenever K is positive
-//! definite on null(M) — the condition under which static condensation of
-//! the massless DOF exists: if $x = A^{-1}My$ and $Mx = 0$ then
-//! $x^\top K x = x^\top A x = x^\top M y = 0$. On range(Op), Op has exactly
-//! the finite eigenpairs of the pencil, the same as those of the statically
-//! condensed problem; the infinite eigenvalues (μ = 0) live in null(M) =
-//! null(Op). Three measures keep the vectors there: (1) every start vector
+//! condensation*; the spectral transformation does it implicitly. M is never
+//! inverted. Op has exactly the finite eigenpairs of the pencil on range(Op)
+//! — the same as those of the statically condensed problem — and μ = 0 on
+//! null(M) = null(Op) (the infinite eigenvalues). This needs K positive
+//! definite on null(M), the condition under which static condensation of the
+//! massless DOF exists (otherwise K − σM is singular and
+//! [`SolverError::Singular`] is returned). Measures: (1) every start vector
 //! (the seeded pseudo-random one and any fresh one) is passed through Op
-//! once, which removes its null(M) component; (2) accepted Ritz vectors are
-//! purified by the Ericsson–Ruhe correction $x = y + (\beta s_m/\theta)\,v_{m+1}
-//! = \mathrm{Op}\,y/\theta$, removing the null(M) component that rounding lets
-//! grow in the Lanczos vectors (Nour-Omid, Parlett, Ericsson & Jensen 1987,
-//! "How to implement the spectral transformation", Math. Comp. 48); (3) Ritz
-//! values μ ≤ 100·n·ε·max|μ| count as infinite λ and are discarded. When the
-//! Krylov space exhausts range(Op) (rank M vectors) before `count` pairs are
-//! found, there are fewer finite eigenvalues above σ than requested and
-//! [`SolverError::InvalidSettings`] on `count` is returned.
+//! once, which removes its null(M) component; (2) the B inner product keeps
+//! null(M) visible: for $x = A^{-1}My \in$ range(Op) and $z \in$ null(M),
+//! $z^\top B x = z^\top A x + (\sigma - \tau) z^\top M x = z^\top M y = 0$,
+//! so null(M) is B-orthogonal to range(Op) and any rounding-level null(M)
+//! component of a Lanczos vector counts in its norm and is never amplified.
+//! (In the M semi-inner product such components are invisible, and the
+//! normalisation by small β multiplies them at every step: in our tests they
+//! grew by 10⁸ within one basis of 50 vectors and overflowed; Nour-Omid,
+//! Parlett, Ericsson & Jensen 1987, "How to implement the spectral
+//! transformation", Math. Comp. 48, describe this growth.) (3) Accepted Ritz
+//! vectors are purified by the Ericsson–Ruhe correction
+//! $x = y + (s_m/\theta)\,r = \mathrm{Op}\,y/\theta$, r the unnormalised
+//! residual vector. (4) Ritz values μ ≤ 100·n·ε·max|μ| count as infinite λ
+//! and are discarded. When the Krylov space exhausts range(Op) (rank M
+//! vectors) before `count` pairs are found, there are fewer finite
+//! eigenvalues above σ than requested and [`SolverError::InvalidSettings`] on
+//! `count` is returned.
 
-use faer::{Mat, Side};
+use faer::linalg::matmul::matmul;
+use faer::{Accum, Col, ColMut, ColRef, Mat, MatRef, Par, Side};
 
 use super::{check_input, normalise, residual_and_floor, too_many, EigenPairs, EigenSettings};
 use crate::{Factorisation, LinearSolver, SolverError, SparseDirect, SparsityPattern};
@@ -92,7 +116,7 @@ const SEED: u64 = 0x9e1a_2e5e_ed00_0001;
 const CHECK_EVERY: usize = 5;
 
 /// Lowest `count` eigenpairs above σ of K φ = λ M φ by shift-invert Lanczos on
-/// the faer sparse factor of K − σM, in the M inner product, with full
+/// the faer sparse factor of K − σM, in a (K − τM) inner product, with full
 /// reorthogonalisation, thick restarts and acceptance on the true residual
 /// (see the module notes for the algorithm and the handling of a singular M).
 ///
@@ -165,13 +189,18 @@ pub fn lanczos_shift_invert(
         applications: 0,
         rng: Lcg(SEED),
         locked: Vec::new(),
-        basis: Vec::new(),
+        ly: Mat::zeros(n, settings.count),
+        lby: Mat::zeros(n, settings.count),
+        vb: Mat::zeros(0, 0),
+        bvb: Mat::zeros(0, 0),
+        len: 0,
         h: Mat::zeros(0, 0),
-        z: vec![0.0; n],
         kx: vec![0.0; n],
         mx: vec![0.0; n],
     };
     run.h = Mat::zeros(run.p, run.p);
+    run.vb = Mat::zeros(n, run.p);
+    run.bvb = Mat::zeros(n, run.p);
     let restarts = run.iterate()?;
     run.finish(restarts)
 }
@@ -192,21 +221,26 @@ impl Lcg {
 struct Locked {
     /// Rayleigh quotient λ = φᵀKφ (φ M-normalised), rad²/s².
     lambda: f64,
-    /// The Ritz vector in the span of the basis (M-orthogonal to the active
-    /// basis; used for orthogonalisation).
+    /// The Ritz vector in the span of the basis (B-orthogonal to the active
+    /// basis; used for orthogonalisation) and B·y, also held as columns of
+    /// `Lanczos::ly` and `Lanczos::lby`.
     y: Vec<f64>,
+    by: Vec<f64>,
     /// The purified, M-normalised eigenvector returned.
     x: Vec<f64>,
 }
 
+/// A B-normalised vector v with B·v.
+type Pair = (Vec<f64>, Vec<f64>);
+
 /// The outcome of one expansion: Op V = V H + r e_mᵀ with r = `raw`.
 struct Step {
-    /// The next basis vector: r / β, or a fresh vector after an invariant
-    /// subspace; `None` when the space is exhausted.
-    next: Option<Vec<f64>>,
+    /// The next basis vector r / β (with B·r / β), or a fresh vector after an
+    /// invariant subspace; `None` when the space is exhausted.
+    next: Option<Pair>,
     /// The residual r = Op v_m − V h (after orthogonalisation, unnormalised).
     raw: Vec<f64>,
-    /// β = ‖r‖_M.
+    /// β = ‖r‖_B.
     beta: f64,
 }
 
@@ -236,12 +270,17 @@ struct Lanczos<'a> {
     rng: Lcg,
     /// Accepted pairs, ascending λ, at most `count`.
     locked: Vec<Locked>,
-    /// Active M-orthonormal basis; the last vector's column of `h` is pending
-    /// until it is expanded.
-    basis: Vec<Vec<f64>>,
-    /// Projected matrix VᵀM·Op·V, upper triangle (columns from Gram–Schmidt).
+    /// The locked y and B·y as n × count matrices (first `locked.len()` columns).
+    ly: Mat<f64>,
+    lby: Mat<f64>,
+    /// Active B-orthonormal basis and B times each vector, n × p matrices of
+    /// which the first `len` columns are in use; the last vector's column of
+    /// `h` is pending until it is expanded.
+    vb: Mat<f64>,
+    bvb: Mat<f64>,
+    len: usize,
+    /// Projected matrix VᵀB·Op·V, upper triangle (columns from Gram–Schmidt).
     h: Mat<f64>,
-    z: Vec<f64>,
     kx: Vec<f64>,
     mx: Vec<f64>,
 }
@@ -258,87 +297,101 @@ impl Lanczos<'_> {
 
     /// Classical Gram–Schmidt twice in the B inner product against the locked
     /// vectors and the active basis; adds the basis coefficients to `coeffs`.
-    /// Returns the B-norms of `w` before and after.
+    /// Returns the B-norms of `w` before and after, and B·w (after).
     fn orthogonalise(
-        &mut self,
+        &self,
         w: &mut [f64],
         mut coeffs: Option<&mut [f64]>,
-    ) -> Result<(f64, f64), SolverError> {
-        self.pattern.mul_vec(&self.b, w, &mut self.z);
-        let before2 = dot(w, &self.z);
-        if before2 < 0.0 {
+    ) -> Result<(f64, f64, Vec<f64>), SolverError> {
+        let mut removed2 = 0.0;
+        let nl = self.locked.len();
+        let (ly, lby) = (self.ly.subcols(0, nl), self.lby.subcols(0, nl));
+        let (v, bv) = (self.vb.subcols(0, self.len), self.bvb.subcols(0, self.len));
+        for _pass in 0..2 {
+            // c = (BY)ᵀw, (BV)ᵀw from the same w (classical), then w −= Y cl + V cb.
+            let cl = gemv_t(lby, w);
+            let cb = gemv_t(bv, w);
+            gemv_sub(ly, &cl, w);
+            gemv_sub(v, &cb, w);
+            if let Some(h) = coeffs.as_deref_mut() {
+                for (h, c) in h.iter_mut().zip(cb.iter()) {
+                    *h += c;
+                }
+            }
+            removed2 += cl.iter().chain(cb.iter()).map(|c| c * c).sum::<f64>();
+        }
+        let mut bw = vec![0.0; self.n];
+        self.pattern.mul_vec(&self.b, w, &mut bw);
+        let after2 = dot(w, &bw);
+        if after2 < 0.0 {
             // Rounding can make a tiny B-norm² slightly negative; a clearly
-            // negative one means B = K − τM is indefinite.
-            let bound = dot_abs(w, &self.z);
-            if -before2 > f64::EPSILON.sqrt() * bound {
+            // negative one means B = K + |σ|M is indefinite.
+            let bound = abs_quadratic(self.pattern, &self.b, w);
+            if -after2 > f64::EPSILON.sqrt() * bound {
                 return Err(SolverError::InvalidSettings {
                     name: "stiffness",
-                    value: before2 / bound,
+                    value: after2 / bound,
                     expected: "a positive semi-definite stiffness K (K + |σ|M positive definite \
                                when σ is inside the spectrum); K has negative eigenvalues: the \
                                linearised state is unstable",
                 });
             }
         }
-        for pass in 0..2 {
-            if pass > 0 {
-                self.pattern.mul_vec(&self.b, w, &mut self.z);
-            }
-            let cl: Vec<f64> = self.locked.iter().map(|l| dot(&l.y, &self.z)).collect();
-            let cb: Vec<f64> = self.basis.iter().map(|v| dot(v, &self.z)).collect();
-            for (l, c) in self.locked.iter().zip(&cl) {
-                axpy(-c, &l.y, w);
-            }
-            for (v, c) in self.basis.iter().zip(&cb) {
-                axpy(-c, v, w);
-            }
-            if let Some(h) = coeffs.as_deref_mut() {
-                for (h, c) in h.iter_mut().zip(&cb) {
-                    *h += c;
-                }
-            }
-        }
-        self.pattern.mul_vec(&self.b, w, &mut self.z);
-        Ok((before2.max(0.0).sqrt(), dot(w, &self.z).max(0.0).sqrt()))
+        let after2 = after2.max(0.0);
+        // ‖w₀‖²_B = Σ c² + ‖w‖²_B (Pythagoras over the two passes).
+        Ok(((removed2 + after2).sqrt(), after2.sqrt(), bw))
     }
 
     /// A pseudo-random vector passed once through Op (purified of null(M)),
-    /// M-orthonormalised against the locked vectors and the basis; `None` if
+    /// B-orthonormalised against the locked vectors and the basis; `None` if
     /// nothing is left (range(Op) is spanned).
-    fn fresh_vector(&mut self) -> Result<Option<Vec<f64>>, SolverError> {
+    fn fresh_vector(&mut self) -> Result<Option<Pair>, SolverError> {
         let r: Vec<f64> = (0..self.n).map(|_| self.rng.symmetric()).collect();
         let mut w = self.apply(&r)?;
-        let (before, after) = self.orthogonalise(&mut w, None)?;
+        let (before, after, bw) = self.orthogonalise(&mut w, None)?;
         if !(after > TINY * before) {
             return Ok(None);
         }
-        w.iter_mut().for_each(|v| *v /= after);
-        Ok(Some(w))
+        Ok(Some((scaled(&w, 1.0 / after), scaled(&bw, 1.0 / after))))
     }
 
     /// Applies Op to the last basis vector and fills its column of `h`.
     fn expand(&mut self) -> Result<Step, SolverError> {
-        let j = self.basis.len() - 1;
-        let mut w = self.apply(&self.basis[j].clone())?;
+        let j = self.len - 1;
+        let mut w = self.apply(&self.vb.col_as_slice(j).to_vec())?;
         let mut coeffs = vec![0.0; j + 1];
-        let (before, after) = self.orthogonalise(&mut w, Some(&mut coeffs))?;
+        let (before, after, bw) = self.orthogonalise(&mut w, Some(&mut coeffs))?;
         for (i, c) in coeffs.iter().enumerate() {
             self.h[(i, j)] = *c;
         }
-        let next = if self.basis.len() + self.locked.len() >= self.n {
+        let next = if self.len + self.locked.len() >= self.n {
             None
         } else if !(after > TINY * before) {
             // Invariant subspace: continue with a fresh direction.
             self.fresh_vector()?
         } else {
-            Some(w.iter().map(|v| v / after).collect())
+            Some((scaled(&w, 1.0 / after), scaled(&bw, 1.0 / after)))
         };
         Ok(Step { next, raw: w, beta: after })
     }
 
+    fn push(&mut self, (v, bv): Pair) {
+        self.vb.col_as_slice_mut(self.len).copy_from_slice(&v);
+        self.bvb.col_as_slice_mut(self.len).copy_from_slice(&bv);
+        self.len += 1;
+    }
+
+    /// Copies the locked vectors into `ly`, `lby` after a change.
+    fn store_locked(&mut self) {
+        for (j, l) in self.locked.iter().enumerate() {
+            self.ly.col_as_slice_mut(j).copy_from_slice(&l.y);
+            self.lby.col_as_slice_mut(j).copy_from_slice(&l.by);
+        }
+    }
+
     /// Ritz values (ascending) and vectors (columns) of the projected matrix.
     fn ritz(&self) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
-        let len = self.basis.len();
+        let len = self.len;
         let hs = Mat::from_fn(len, len, |i, j| if i <= j { self.h[(i, j)] } else { self.h[(j, i)] });
         let evd = hs
             .self_adjoint_eigen(Side::Lower)
@@ -347,19 +400,25 @@ impl Lanczos<'_> {
         Ok((theta, evd.U().to_owned()))
     }
 
-    /// Σ_l s[l, i] · basis[l].
-    fn combine(&self, s: &Mat<f64>, i: usize) -> Vec<f64> {
+    /// V s[:, i] for V = `vectors` (its first `len` columns).
+    fn combine(&self, vectors: &Mat<f64>, s: &Mat<f64>, i: usize) -> Vec<f64> {
         let mut y = vec![0.0; self.n];
-        for (l, v) in self.basis.iter().enumerate() {
-            axpy(s[(l, i)], v, &mut y);
-        }
+        matmul(
+            ColMut::from_slice_mut(&mut y),
+            Accum::Replace,
+            vectors.subcols(0, self.len),
+            s.col(i),
+            1.0,
+            Par::Seq,
+        );
         y
     }
 
     /// Tests the leading Ritz pairs on their true residual and locks the accepted ones.
     fn examine(&mut self, theta: &[f64], s: &Mat<f64>, step: &Step, verifying: bool) -> Examined {
-        let len = self.basis.len();
+        let len = self.len;
         let count = self.settings.count;
+        let exhausted = step.next.is_none();
         let mut order: Vec<usize> = (0..len).collect();
         order.sort_by(|&a, &b| theta[b].total_cmp(&theta[a]));
         let scale = theta.iter().fold(0.0f64, |a, t| a.max(t.abs()));
@@ -376,9 +435,11 @@ impl Lanczos<'_> {
                 }
                 break;
             }
-            // Ritz residual ‖Op y − θ y‖_M = β |s_m|.
+            // Ritz residual ‖Op y − θ y‖_B = β |s_m|.
             let estimate = step.beta * s[(len - 1, i)].abs();
-            if rank == 0 && verifying && self.locked.len() == count {
+            let lockable = estimate <= (LOCK_FRACTION * self.settings.tolerance * theta[i]).max(TINY * scale);
+            let top_check = rank == 0 && verifying && self.locked.len() == count;
+            if top_check {
                 // No eigenvalue of the deflated operator above the locked ones:
                 // its largest Ritz value, converged to VERIFY_RITZ, is bounded by
                 // θ + ‖r‖ below the smallest locked μ.
@@ -388,11 +449,13 @@ impl Lanczos<'_> {
                     break;
                 }
             }
-            if estimate > RITZ_SCREEN * theta[i] {
+            // The true residual is only worth evaluating for a pair that could
+            // be locked now, or (a tie with the largest locked one) verified.
+            if !(lockable || exhausted || (top_check && estimate <= RITZ_SCREEN * theta[i])) {
                 continue;
             }
             // Ericsson–Ruhe purification: x = y + (s_m / θ) r = Op y / θ.
-            let y = self.combine(s, i);
+            let y = self.combine(&self.vb, s, i);
             let mut x = y.clone();
             axpy(s[(len - 1, i)] / theta[i], &step.raw, &mut x);
             self.pattern.mul_vec(self.m, &x, &mut self.mx);
@@ -408,43 +471,64 @@ impl Lanczos<'_> {
             accepted += 1;
             let largest = self.locked.last().map_or(f64::INFINITY, |l| l.lambda);
             if self.locked.len() < count || lambda < largest - TIE * largest.abs() {
-                // Locking drops the pair's coupling β s_m to the rest of the
-                // basis, a perturbation of Op of that size: lock only once it
-                // is far below the accuracy asked of the other pairs.
-                if estimate > (LOCK_FRACTION * self.settings.tolerance * theta[i]).max(TINY * scale) {
+                if !lockable {
                     continue;
                 }
                 if self.locked.len() == count {
                     self.locked.pop();
                 }
+                let by = self.combine(&self.bvb, s, i);
                 let at = self.locked.partition_point(|l| l.lambda <= lambda);
-                self.locked.insert(at, Locked { lambda, y, x });
+                self.locked.insert(at, Locked { lambda, y, by, x });
                 out.locked.push(i);
-            } else if rank == 0 && verifying {
+            } else if top_check {
                 out.verified = true;
             }
         }
         out.all_positive_accepted = accepted == positive;
+        if !out.locked.is_empty() {
+            self.store_locked();
+        }
         out
     }
 
     /// Thick restart: keeps the largest non-locked Ritz vectors and the next vector.
     /// The coupling row β·s_m of the kept vectors enters `h` through the
     /// Gram–Schmidt column of `next` when it is expanded.
-    fn restart(&mut self, theta: &[f64], s: &Mat<f64>, next: Vec<f64>, locked_now: &[usize]) {
-        let len = self.basis.len();
+    fn restart(&mut self, theta: &[f64], s: &Mat<f64>, next: Pair, locked_now: &[usize]) {
+        let len = self.len;
         let cap = self.p - self.locked.len();
         let need = self.settings.count - self.locked.len();
         let mut order: Vec<usize> = (0..len).filter(|i| !locked_now.contains(i)).collect();
         order.sort_by(|&a, &b| theta[b].total_cmp(&theta[a]));
         let keep = (need + (cap.saturating_sub(need)) / 2).max(1).min(cap.saturating_sub(1)).min(order.len());
-        let mut basis: Vec<Vec<f64>> = order[..keep].iter().map(|&i| self.combine(s, i)).collect();
-        basis.push(next);
-        self.basis = basis;
+        // [V S_keep, next] (and the same for B·V).
+        let s_keep = Mat::from_fn(len, keep, |r, c| s[(r, order[c])]);
+        for store in [&mut self.vb, &mut self.bvb] {
+            let mut kept = Mat::zeros(self.n, keep);
+            matmul(&mut kept, Accum::Replace, store.subcols(0, len), &s_keep, 1.0, Par::Seq);
+            store.subcols_mut(0, keep).copy_from(&kept);
+        }
+        self.len = keep;
+        self.push(next);
         self.h.fill(0.0);
         for (a, &i) in order[..keep].iter().enumerate() {
             self.h[(a, a)] = theta[i];
         }
+    }
+
+    /// Discards the active basis and starts from a fresh vector; false if
+    /// none is left.
+    fn fresh_start(&mut self) -> Result<bool, SolverError> {
+        self.len = 0;
+        self.h.fill(0.0);
+        Ok(match self.fresh_vector()? {
+            Some(v) => {
+                self.push(v);
+                true
+            }
+            None => false,
+        })
     }
 
     /// The main loop; returns the number of restarts.
@@ -454,19 +538,17 @@ impl Lanczos<'_> {
         let mut verifying = false;
         let not_converged =
             |found: usize, restarts: usize| SolverError::EigenNotConverged { found, wanted: count, restarts };
-        match self.fresh_vector()? {
-            Some(v) => self.basis.push(v),
-            None => return Err(too_many(count)),
+        if !self.fresh_start()? {
+            return Err(too_many(count));
         }
         loop {
             let cap = self.p - self.locked.len();
             let step = self.expand()?;
             let exhausted = step.next.is_none();
-            let full = self.basis.len() >= cap;
-            let check_due =
-                verifying && self.basis.len() >= 2 * CHECK_EVERY && self.basis.len() % CHECK_EVERY == 0;
+            let full = self.len >= cap;
+            let check_due = verifying && self.len >= 2 * CHECK_EVERY && self.len % CHECK_EVERY == 0;
             if !(full || exhausted || check_due) {
-                self.basis.push(step.next.expect("not exhausted"));
+                self.push(step.next.expect("not exhausted"));
                 continue;
             }
             let (theta, s) = self.ritz()?;
@@ -490,11 +572,8 @@ impl Lanczos<'_> {
                 if restarts > self.settings.max_restarts {
                     return Err(not_converged(self.locked.len(), restarts - 1));
                 }
-                self.basis.clear();
-                self.h.fill(0.0);
-                match self.fresh_vector()? {
-                    Some(v) => self.basis.push(v),
-                    None => return Ok(restarts),
+                if !self.fresh_start()? {
+                    return Ok(restarts);
                 }
                 continue;
             }
@@ -505,7 +584,7 @@ impl Lanczos<'_> {
                 }
                 self.restart(&theta, &s, next, &ex.locked);
             } else {
-                self.basis.push(next);
+                self.push(next);
             }
         }
     }
@@ -565,9 +644,31 @@ impl Lanczos<'_> {
     }
 }
 
-/// Σ |aᵢ bᵢ|.
-fn dot_abs(a: &[f64], b: &[f64]) -> f64 {
-    a.iter().zip(b).map(|(x, y)| (x * y).abs()).sum()
+/// |w|ᵀ |B| |w|, the rounding scale of wᵀBw.
+fn abs_quadratic(pattern: &SparsityPattern, values: &[f64], w: &[f64]) -> f64 {
+    let mut sum = 0.0;
+    for j in 0..pattern.dim() {
+        for idx in pattern.col_ptr()[j]..pattern.col_ptr()[j + 1] {
+            sum += (values[idx] * w[pattern.row_idx()[idx]] * w[j]).abs();
+        }
+    }
+    sum
+}
+
+/// Aᵀx.
+fn gemv_t(a: MatRef<'_, f64>, x: &[f64]) -> Col<f64> {
+    let mut c = Col::zeros(a.ncols());
+    matmul(&mut c, Accum::Replace, a.transpose(), ColRef::from_slice(x), 1.0, Par::Seq);
+    c
+}
+
+/// w −= A c.
+fn gemv_sub(a: MatRef<'_, f64>, c: &Col<f64>, w: &mut [f64]) {
+    matmul(ColMut::from_slice_mut(w), Accum::Add, a, c, -1.0, Par::Seq);
+}
+
+fn scaled(v: &[f64], a: f64) -> Vec<f64> {
+    v.iter().map(|x| a * x).collect()
 }
 
 fn dot(a: &[f64], b: &[f64]) -> f64 {
