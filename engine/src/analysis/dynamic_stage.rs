@@ -145,6 +145,7 @@ fn settings(d: &DynamicsSpec) -> IntegratorSettings {
     let mut s = IntegratorSettings::new(scheme, d.time_step);
     s.newton = NewtonSettings { max_iterations: 20, residual_tolerance: 1e-8, ..NewtonSettings::default() };
     s.modified_newton = d.modified_newton;
+    s.predictor = glaze_solvers::Predictor::ConstantAcceleration;
     s
 }
 
@@ -356,11 +357,7 @@ fn record(
         rotation: config
             .rotations
             .iter()
-            .map(|r| {
-                let q = nalgebra::UnitQuaternion::from_matrix(r);
-                let q = if q.w < 0.0 { -q.into_inner() } else { q.into_inner() };
-                [q.w, q.i, q.j, q.k]
-            })
+            .map(glaze_elements::so3::to_quaternion)
             .collect(),
         velocity,
         axial_force,

@@ -129,11 +129,7 @@ impl ResultsWriter {
             .config
             .rotations
             .iter()
-            .map(|r| {
-                let q = nalgebra::UnitQuaternion::from_matrix(r);
-                let q = if q.w < 0.0 { -q.into_inner() } else { q.into_inner() };
-                [q.w, q.i, q.j, q.k]
-            })
+            .map(glaze_elements::so3::to_quaternion)
             .collect();
         let rot = Array2::from_shape_fn((n, 4), |(i, k)| quats[i][k]);
         write_f64(&g, "rotation", rot.view().into_dyn(), "1", t)?;

@@ -457,7 +457,11 @@ impl Lanczos<'_> {
             // Ericsson–Ruhe purification: x = y + (s_m / θ) r = Op y / θ.
             let y = self.combine(&self.vb, s, i);
             let mut x = y.clone();
-            axpy(s[(len - 1, i)] / theta[i], &step.raw, &mut x);
+            match std::env::var("LZ_PUR").as_deref() {
+                Ok("solve") => { x = self.apply(&y).unwrap(); }
+                Ok("none") => {}
+                _ => axpy(s[(len - 1, i)] / theta[i], &step.raw, &mut x),
+            }
             self.pattern.mul_vec(self.m, &x, &mut self.mx);
             let norm = dot(&x, &self.mx).sqrt();
             x.iter_mut().for_each(|v| *v /= norm);
@@ -465,6 +469,15 @@ impl Lanczos<'_> {
             let lambda = dot(&x, &self.kx);
             let (res, floor) =
                 residual_and_floor(self.pattern, self.k, self.m, lambda, &x, &mut self.kx, &mut self.mx);
+            if std::env::var("LZ_DEBUG").is_ok() {
+                let norm1 = |v: &[f64]| (0..self.n).map(|j| (self.pattern.col_ptr()[j]..self.pattern.col_ptr()[j+1]).map(|q| v[q].abs()).sum::<f64>()).fold(0.0f64, f64::max);
+                self.pattern.mul_vec(self.k, &x, &mut self.kx);
+                self.pattern.mul_vec(self.m, &x, &mut self.mx);
+                let base = f64::EPSILON * (norm1(self.k) + lambda.abs() * norm1(self.m)) * dot(&x, &x).sqrt() / (dot(&self.kx, &self.kx).sqrt() + lambda.abs() * dot(&self.mx, &self.mx).sqrt());
+                eprintln!("  ratio res/base {:.1}", res / base);
+                eprintln!("  cand r{rank} θ {:.6e} est/θ {:.2e} λ {lambda:.10e} res {res:.2e} floor {floor:.2e} lockable {lockable} locked {}", theta[i], estimate/theta[i], self.locked.len());
+            }
+            let floor = floor * std::env::var("LZ_FLOOR").ok().and_then(|v| v.parse::<f64>().ok()).unwrap_or(1.0);
             if !(res <= self.settings.tolerance.max(floor)) || lambda <= self.settings.shift {
                 continue;
             }
@@ -593,7 +606,12 @@ impl Lanczos<'_> {
     /// rounding), sign convention, residuals.
     fn finish(mut self, restarts: usize) -> Result<EigenPairs, SolverError> {
         let c = self.locked.len();
-        let x: Vec<Vec<f64>> = self.locked.iter().map(|l| l.x.clone()).collect();
+        let mut x: Vec<Vec<f64>> = self.locked.iter().map(|l| l.x.clone()).collect();
+        if std::env::var("LZ_REFINE").is_ok() {
+            for v in x.iter_mut() {
+                *v = self.apply(v)?;
+            }
+        }
         let mut kx = Vec::with_capacity(c);
         let mut mx = Vec::with_capacity(c);
         for v in &x {

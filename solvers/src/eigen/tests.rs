@@ -550,115 +550,125 @@ fn lanczos_singular_operator_is_reported() {
     assert!(matches!(e, Err(SolverError::InvalidSettings { name: "stiffness asymmetry", .. })), "{e:?}");
 }
 
-#[test]
-#[ignore]
-fn stress_tmp() {
-    let mut fails = 0;
-    let only: Option<u64> = std::env::var("SEED").ok().map(|s| s.parse().unwrap());
-    for seed in 0..300u64 {
-        if only.is_some_and(|o| o != seed) {
-            continue;
+/// Two identical decoupled copies of `one`: every eigenvalue twice.
+fn doubled(one: &Problem) -> Problem {
+    let n1 = one.n();
+    let mut groups = Vec::new();
+    for j in 0..n1 {
+        for &i in one.pattern.col(j) {
+            if i <= j {
+                groups.push(vec![Some(i), Some(j)]);
+                groups.push(vec![Some(i + n1), Some(j + n1)]);
+            }
         }
-        let mut rng = Lcg::new(seed);
+    }
+    let pattern = SparsityPattern::from_dof_groups(2 * n1, groups.iter().map(|g| g.as_slice()));
+    let (mut k, mut m) = (vec![0.0; pattern.nnz()], vec![0.0; pattern.nnz()]);
+    for j in 0..n1 {
+        for idx in one.pattern.col_ptr()[j]..one.pattern.col_ptr()[j + 1] {
+            let i = one.pattern.row_idx()[idx];
+            for off in [0, n1] {
+                let t = pattern.value_index(i + off, j + off).unwrap();
+                k[t] = one.k[idx];
+                m[t] = one.m[idx];
+            }
+        }
+    }
+    Problem { pattern, k, m }
+}
+
+/// `p` with a rank-deficient, non-diagonal M: random rank-1 masses on
+/// triples of neighbouring DOF, so null(M) is not spanned by coordinate
+/// directions (K stays positive definite, so K is definite on null(M)).
+fn with_rank_deficient_mass(rng: &mut Lcg, p: &Problem) -> Problem {
+    let n = p.n();
+    let triples: Vec<Vec<Option<usize>>> = (0..n / 3)
+        .map(|_| {
+            let c = rng.below(n);
+            vec![Some(c), Some((c + 1) % n), Some((c + 2) % n)]
+        })
+        .collect();
+    let mut groups: Vec<Vec<Option<usize>>> = Vec::new();
+    for j in 0..n {
+        for &i in p.pattern.col(j) {
+            if i < j {
+                groups.push(vec![Some(i), Some(j)]);
+            }
+        }
+    }
+    groups.extend(triples.iter().cloned());
+    let pattern = SparsityPattern::from_dof_groups(n, groups.iter().map(|g| g.as_slice()));
+    let mut k = vec![0.0; pattern.nnz()];
+    for j in 0..n {
+        for idx in p.pattern.col_ptr()[j]..p.pattern.col_ptr()[j + 1] {
+            k[pattern.value_index(p.pattern.row_idx()[idx], j).unwrap()] = p.k[idx];
+        }
+    }
+    let asm = Assembler::new(&pattern, triples.iter().map(|g| g.as_slice()));
+    let mut m = vec![0.0; pattern.nnz()];
+    for g in 0..triples.len() {
+        asm.add_matrix(g, &random_gram(rng, 3, 1, 1.0), &mut m);
+    }
+    Problem { pattern, k, m }
+}
+
+/// Number of finite eigenvalues (rank of M here) by bisection on the dense
+/// path's `count` error.
+fn finite_count(p: &Problem) -> usize {
+    let ok = |c: usize| dense_shift_invert(&p.pattern, &p.k, &p.m, &EigenSettings::new(c)).is_ok();
+    let (mut lo, mut hi) = (0, p.n());
+    if ok(hi) {
+        return hi;
+    }
+    while hi - lo > 1 {
+        let mid = (lo + hi) / 2;
+        if ok(mid) {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    lo
+}
+
+/// A seeded sweep over problem kinds (block chains, random meshes, zero
+/// masses, rank-deficient non-diagonal M, doubled spectra), sizes 10–300,
+/// counts 1–30 and shifts (0, negative, between two eigenvalues): Lanczos
+/// agrees with the dense path to 1e-8 relative, returns M-orthonormal vectors
+/// (1e-10) within the residual tolerance, and reports `count` above the
+/// number of finite eigenvalues above σ as InvalidSettings. (A wider run of
+/// 300 seeds passed during development; 40 are kept for test time.)
+#[test]
+fn lanczos_randomised_sweep_matches_dense() {
+    for seed in 0..40u64 {
+        let mut rng = Lcg::new(0xe16e_1000 + seed);
         let kind = rng.below(5);
         let mass = if rng.below(2) == 0 { MassKind::Diagonal } else { MassKind::Consistent };
-        let (a1, a2, a3) = (rng.below(150), rng.below(300), rng.below(3));
-        let a4 = rng.below(600);
-        let mut p = match kind {
-            0 => block_chain(&mut rng, 5 + a1, mass),
-            1 => {
-                let n = 10 + a2;
-                random_mesh(&mut rng, n, n + a4 % (2 * n), mass)
+        let p = match kind {
+            0 => {
+                let nodes = 5 + rng.below(150);
+                block_chain(&mut rng, nodes, mass)
             }
-            2 => with_zero_masses(&mut rng, 5 + a1 % 100, 2 + a3),
+            1 => {
+                let n = 10 + rng.below(300);
+                let elements = n + rng.below(2 * n);
+                random_mesh(&mut rng, n, elements, mass)
+            }
+            2 => {
+                let (nodes, every) = (5 + rng.below(100), 2 + rng.below(3));
+                with_zero_masses(&mut rng, nodes, every)
+            }
             3 => {
-                // Rank-deficient element masses: a non-coordinate null(M).
-                let n = 10 + a2;
-                let mut p = random_mesh(&mut rng, n, n / 2 + a4 % n, mass);
-                let groups: Vec<Vec<Option<usize>>> = {
-                    let mut g = Vec::new();
-                    for _ in 0..n / 3 {
-                        let c = rng.below(n);
-                        g.push(vec![Some(c), Some((c + 1) % n), Some((c + 2) % n)]);
-                    }
-                    g
-                };
-                // Rebuild M only on a subset of couplings already in the pattern? Use the
-                // pattern of K ∪ these groups instead.
-                let mut all: Vec<Vec<Option<usize>>> = Vec::new();
-                for j in 0..n {
-                    for &i in p.pattern.col(j) {
-                        if i < j {
-                            all.push(vec![Some(i), Some(j)]);
-                        }
-                    }
-                }
-                all.extend(groups.iter().cloned());
-                let pattern = SparsityPattern::from_dof_groups(n, all.iter().map(|g| g.as_slice()));
-                let mut k = vec![0.0; pattern.nnz()];
-                for j in 0..n {
-                    for idx in p.pattern.col_ptr()[j]..p.pattern.col_ptr()[j + 1] {
-                        k[pattern.value_index(p.pattern.row_idx()[idx], j).unwrap()] = p.k[idx];
-                    }
-                }
-                let asm = Assembler::new(&pattern, groups.iter().map(|g| g.as_slice()));
-                let mut m = vec![0.0; pattern.nnz()];
-                for g in 0..groups.len() {
-                    let ml = random_gram(&mut rng, 3, 1, 1.0);
-                    asm.add_matrix(g, &ml, &mut m);
-                }
-                p = Problem { pattern, k, m };
-                p
+                let n = 10 + rng.below(300);
+                let base = random_mesh(&mut rng, n, n, mass);
+                with_rank_deficient_mass(&mut rng, &base)
             }
             _ => {
-                // Two identical decoupled copies (every eigenvalue twice).
-                let one = block_chain(&mut rng, 5 + a1 % 60, mass);
-                let n1 = one.n();
-                let mut groups = Vec::new();
-                for j in 0..n1 {
-                    for &i in one.pattern.col(j) {
-                        if i <= j {
-                            groups.push(vec![Some(i), Some(j)]);
-                            groups.push(vec![Some(i + n1), Some(j + n1)]);
-                        }
-                    }
-                }
-                let pattern = SparsityPattern::from_dof_groups(2 * n1, groups.iter().map(|g| g.as_slice()));
-                let (mut k, mut m) = (vec![0.0; pattern.nnz()], vec![0.0; pattern.nnz()]);
-                for j in 0..n1 {
-                    for idx in one.pattern.col_ptr()[j]..one.pattern.col_ptr()[j + 1] {
-                        let i = one.pattern.row_idx()[idx];
-                        for off in [0, n1] {
-                            let t = pattern.value_index(i + off, j + off).unwrap();
-                            k[t] = one.k[idx];
-                            m[t] = one.m[idx];
-                        }
-                    }
-                }
-                Problem { pattern, k, m }
+                let nodes = 5 + rng.below(60);
+                doubled(&block_chain(&mut rng, nodes, mass))
             }
         };
-        if kind == 2 && rng.below(2) == 0 {
-            // also zero some more
-            let d = p.pattern.diagonal_indices();
-            p.m[d[0]] = 0.0;
-        }
-        let n = p.n();
-        let all = match dense_shift_invert(&p.pattern, &p.k, &p.m, &EigenSettings::new(1)) {
-            Ok(_) => dense_shift_invert(&p.pattern, &p.k, &p.m, &EigenSettings::new(n)),
-            Err(e) => Err(e),
-        };
-        let finite = match &all {
-            Ok(_) => n,
-            Err(_) => {
-                // find number of finite by bisection-free approach: try decreasing
-                let mut c = n;
-                while c > 0 && dense_shift_invert(&p.pattern, &p.k, &p.m, &EigenSettings::new(c)).is_err() {
-                    c -= 1;
-                }
-                c
-            }
-        };
+        let finite = finite_count(&p);
         if finite == 0 {
             continue;
         }
@@ -677,90 +687,73 @@ fn stress_tmp() {
             _ => -all.values[0] * rng.uniform(),
         };
         let above: Vec<f64> = all.values.iter().copied().filter(|&v| v > shift).collect();
-        if only.is_some() {
-            let below: Vec<f64> = all.values.iter().copied().filter(|&v| v <= shift).collect();
-            eprintln!(
-                "below {:?} above {:?}",
-                &below[below.len().saturating_sub(3)..],
-                &above[..3.min(above.len())]
-            );
-        }
         let s = EigenSettings { shift, ..EigenSettings::new(count) };
-        let r = lanczos_shift_invert(&p.pattern, &p.k, &p.m, &s);
-        let ok = match &r {
-            Ok(r) if above.len() >= count => {
-                let mut good = true;
+        let what = format!("seed {seed}: kind {kind}, {mass:?}, n {}, count {count}, σ {shift:e}", p.n());
+        match lanczos_shift_invert(&p.pattern, &p.k, &p.m, &s) {
+            Ok(r) => {
+                assert!(above.len() >= count, "{what}");
+                check_conventions(&p, &r, s.tolerance);
                 for j in 0..count {
                     let rel = (r.values[j] - above[j]).abs() / above[j].abs();
-                    if rel > 1e-8 {
-                        good = false;
-                        eprintln!("seed {seed}: λ{j} {} vs {} rel {rel:e}", r.values[j], above[j]);
-                        break;
-                    }
+                    assert!(rel <= 1e-8, "{what}: λ{j} {} vs {} ({rel:e})", r.values[j], above[j]);
                 }
-                for a in 0..count {
-                    for b in 0..=a {
-                        let d = p.m_dot(&r.vectors[a], &r.vectors[b]);
-                        let want = if a == b { 1.0 } else { 0.0 };
-                        if (d - want).abs() > 1e-10 {
-                            good = false;
-                            eprintln!("seed {seed}: orth {a} {b} {d:e}");
-                        }
-                    }
-                }
-                good
             }
-            Err(SolverError::InvalidSettings { name: "count", .. }) if above.len() < count => true,
-            other => {
-                eprintln!("seed {seed}: {:?} (above {}, count {count})", other.as_ref().err(), above.len());
-                false
-            }
-        };
-        if !ok {
-            fails += 1;
-            eprintln!("  seed {seed} kind {kind} {mass:?} n {n} count {count} shift {shift} finite {finite}");
-        }
-    }
-    assert_eq!(fails, 0);
-}
-
-#[test]
-#[ignore]
-fn timing_tmp() {
-    let mut rng = Lcg::new(7);
-    for (name, p) in [
-        ("block chain n=20000", block_chain(&mut rng, 10000, MassKind::Diagonal)),
-        ("random mesh n=20000", random_mesh(&mut rng, 20000, 40000, MassKind::Consistent)),
-        ("zero masses n=20000", with_zero_masses(&mut rng, 10000, 2)),
-    ] {
-        for count in [20, 60] {
-            let t = std::time::Instant::now();
-            let r = lanczos_shift_invert(&p.pattern, &p.k, &p.m, &EigenSettings::new(count)).unwrap();
-            eprintln!(
-                "{name} count {count}: {:.2} s, {} restarts, {} solves, max res {:.1e}",
-                t.elapsed().as_secs_f64(),
-                r.restarts,
-                r.operator_applications,
-                r.residuals.iter().fold(0.0f64, |a, &b| a.max(b))
-            );
+            Err(SolverError::InvalidSettings { name: "count", .. }) => assert!(above.len() < count, "{what}"),
+            Err(e) => panic!("{what}: {e}"),
         }
     }
 }
 
+/// Clamped–clamped Euler–Bernoulli beam, lumped translational masses and no
+/// rotary inertia (a singular M with half of the DOF massless, as in the
+/// engine's line models): Lanczos matches the independently condensed dense
+/// reference to 1e-8, and the lowest three values approach the continuum
+/// closed form ω_j² = (β_j L)⁴ EI / (m L⁴) with β_j L = 4.730041, 7.853205,
+/// 10.995608 (standard values, from memory) to within the discretisation
+/// error of 200 elements.
 #[test]
-#[ignore]
-fn timing_solve_tmp() {
-    let mut rng = Lcg::new(7);
-    let _ = block_chain(&mut rng, 10000, MassKind::Diagonal);
-    let p = random_mesh(&mut rng, 20000, 40000, MassKind::Consistent);
-    let mut s = crate::SparseDirect::new(&p.pattern);
-    let t = std::time::Instant::now();
-    crate::LinearSolver::factor(&mut s, &p.k).unwrap();
-    eprintln!("factor {:.3}", t.elapsed().as_secs_f64());
-    let mut x = vec![1.0; p.n()];
-    let t = std::time::Instant::now();
-    for _ in 0..100 {
-        crate::LinearSolver::solve_in_place(&mut s, &mut x).unwrap();
+fn lanczos_clamped_beam_without_rotary_inertia() {
+    let (elements, length, ei, mass) = (200, 100.0, 1.0e5, 1.5); // m, N·m², kg/m
+    let h = length / elements as f64;
+    let eq = |node: usize, dof: usize| (node > 0 && node < elements).then(|| 2 * (node - 1) + dof);
+    let groups: Vec<Vec<Option<usize>>> =
+        (0..elements).map(|e| vec![eq(e, 0), eq(e, 1), eq(e + 1, 0), eq(e + 1, 1)]).collect();
+    let c = ei / h.powi(3);
+    #[rustfmt::skip]
+    let ke = vec![
+        12.0 * c, 6.0 * h * c, -12.0 * c, 6.0 * h * c,
+        6.0 * h * c, 4.0 * h * h * c, -6.0 * h * c, 2.0 * h * h * c,
+        -12.0 * c, -6.0 * h * c, 12.0 * c, -6.0 * h * c,
+        6.0 * h * c, 2.0 * h * h * c, -6.0 * h * c, 4.0 * h * h * c,
+    ];
+    let mut me = vec![0.0; 16];
+    me[0] = 0.5 * mass * h;
+    me[10] = 0.5 * mass * h;
+    let p = assemble(2 * (elements - 1), &groups, &vec![ke; elements], &vec![me; elements]);
+    let reference = condensed_reference(&p);
+    let s = EigenSettings::new(20);
+    if std::env::var("LZ_DEBUG").is_ok() {
+        let d = dense_shift_invert(&p.pattern, &p.k, &p.m, &s).unwrap();
+        let knorm = p.k.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+        for j in 0..20 {
+            let xn = d.vectors[j].iter().map(|v| v * v).sum::<f64>().sqrt();
+            eprintln!("dense {j}: λ {:.10e} ref {:.10e} res {:.2e} |x| {xn:.2e} maxK {knorm:.2e}", d.values[j], reference[j], d.residuals[j]);
+        }
     }
-    eprintln!("100 solves {:.3}  nnz {}", t.elapsed().as_secs_f64(), p.pattern.nnz());
+    let r = lanczos_shift_invert(&p.pattern, &p.k, &p.m, &s).unwrap();
+    if std::env::var("LZ_DEBUG").is_ok() {
+        for j in 0..20 {
+            eprintln!("lanczos {j}: λ {:.10e} res {:.2e}", r.values[j], r.residuals[j]);
+        }
+    }
+    check_conventions(&p, &r, s.tolerance);
+    for j in 0..20 {
+        let rel = (r.values[j] - reference[j]).abs() / reference[j];
+        assert!(rel <= 1e-8, "mode {}: {} vs {} ({rel:e})", j + 1, r.values[j], reference[j]);
+    }
+    for (j, beta_l) in [4.730_041_f64, 7.853_205, 10.995_608].into_iter().enumerate() {
+        let exact = beta_l.powi(4) * ei / (mass * length.powi(4));
+        let rel = (r.values[j] - exact).abs() / exact;
+        assert!(rel <= 1e-3, "mode {}: {} vs continuum {exact} ({rel:e})", j + 1, r.values[j]);
+    }
 }
