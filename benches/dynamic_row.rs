@@ -81,7 +81,8 @@ fn dynamic_row(c: &mut Criterion) {
     group.bench_function("three_spans_40_elements_5s", |b| {
         b.iter(|| {
             let writer = ResultsWriter::create(&dir.join("row.h5"), &spec.source).expect("results file");
-            let summary = run_dynamic(&spec, &registry, &writer, &AtomicBool::new(false), &mut |_| {}).expect("run");
+            let summary =
+                run_dynamic(&spec, &registry, &writer, &AtomicBool::new(false), &mut |_| {}).expect("run");
             writer.finish(0.0).expect("finish");
             summary
         })

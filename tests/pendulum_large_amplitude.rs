@@ -12,8 +12,8 @@
 //!
 //! Model: a `Link` (compression-capable truss) from a fixed hinge to a free
 //! node. The link's lumped mass puts half the string mass at each node; the
-//! hinge half is on restrained DOF, so the model is a point mass `m = μL/2`
-//! on a massless rod of length L: exactly the simple pendulum. EA is so
+//! hinge half is on restrained DOF, so the model is a point mass `m = μL0/2`
+//! on a massless rod of length L (m = 60 kg here): exactly the simple pendulum. EA is so
 //! large that the rod stretches by at most 3mg/EA ≈ 2e-7 of its length
 //! (period effect ≈ 1e-7), and the link starts pre-stretched to its exact
 //! initial tension `m g cos θ0` so that no axial vibration is started.
@@ -33,7 +33,7 @@ use std::f64::consts::PI;
 
 const G: f64 = 9.80665; // m/s², standard gravity (CGPM 1901)
 const L: f64 = 3.0; // m, string length (a 400 kV I-string is 3–4 m, common practice)
-const MU: f64 = 40.0; // kg/m, string mass per length (invented: a heavy string)
+const TIP_MASS: f64 = 60.0; // kg, half the string mass (invented: a heavy 120 kg string)
 const EA: f64 = 1.0e10; // N, "rigid"
 
 /// Arithmetic–geometric mean (Abramowitz & Stegun 1964, 17.6).
@@ -73,12 +73,13 @@ fn agm_elliptic_integral_matches_tabulated_values() {
 /// The pendulum model: node 0 the fixed hinge at the origin, node 1 the
 /// tip at angle `theta0` from the downward vertical in the x–z plane.
 fn pendulum(theta0: f64) -> (Model, Configuration, f64) {
-    let tip_mass = 0.5 * MU * L;
+    let tip_mass = TIP_MASS;
     let hinge = Vector3::zeros();
     let tip = Vector3::new(L * theta0.sin(), 0.0, -L * theta0.cos());
     // Pre-stretch: tension m g cos θ0 at rest in the initial position.
     let l0 = L / (1.0 + tip_mass * G * theta0.cos() / EA);
-    let section = TrussSection { ea: EA, mass_per_length: MU, thermal_expansion: 0.0 };
+    // Mass per unstretched length so that the lumped half mass μ L0 / 2 is the tip mass.
+    let section = TrussSection { ea: EA, mass_per_length: 2.0 * tip_mass / l0, thermal_expansion: 0.0 };
     let link = Link::new([0, 1], l0, section).unwrap();
     let elements: Vec<Box<dyn Element>> = vec![Box::new(link)];
     let restrained = vec![[true; DOF_PER_NODE], [false, false, false, true, true, true]];
@@ -134,7 +135,7 @@ fn swing(theta0: f64, steps_per_period: f64, periods: f64) -> Swing {
     let mut crossings = Vec::new();
     let mut turning_height_error: f64 = 0.0;
     let (mut t_prev, mut p_prev) = (0.0, x_of(&integ));
-    let mut vx_prev = 0.0;
+    let mut vx_prev: f64 = 0.0;
     let t_end = periods * t_exact;
     while integ.time() < t_end {
         integ.step().unwrap();

@@ -107,6 +107,15 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
             "Rayleigh damping a0 = {:.4e} 1/s, a1 = {:.4e} s; energy balance error {:.2e} of the largest term",
             summary.rayleigh.0, summary.rayleigh.1, summary.energy_balance_error
         );
+        if !summary.modal_damping.is_empty() {
+            let list: Vec<String> = summary
+                .modal_damping
+                .iter()
+                .enumerate()
+                .map(|(i, (f, xi))| format!("{}: {f:.3} Hz {:.2} %", i + 1, 100.0 * xi))
+                .collect();
+            println!("Rayleigh damping of the modes about the start state: {}", list.join(", "));
+        }
         println!("{} records written to {}", summary.records, path.display());
         println!("{CAUTION}");
     }

@@ -51,6 +51,9 @@ pub struct DynamicSummary {
     pub rayleigh: (f64, f64),
     /// Largest |energy balance residual| / largest energy term over the run.
     pub energy_balance_error: f64,
+    /// Frequency (Hz) and Rayleigh damping ratio of each mode computed for
+    /// the fit, as a check of the fit.
+    pub modal_damping: Vec<(f64, f64)>,
 }
 
 /// Runs the dynamic stage of `spec`, writing `/model`, `/static` and
@@ -134,7 +137,19 @@ pub fn run_dynamic(
         system.set_increment(&dq);
         system.commit();
     }
-    integrate(spec, dynamics, &model, &state.config, system, writer, stop, progress, rayleigh)
+    let modal_damping = modes.as_ref().map_or(Vec::new(), |(set, _)| {
+        set.omega_squared
+            .iter()
+            .map(|w2| {
+                let w = w2.max(0.0).sqrt();
+                (w / (2.0 * std::f64::consts::PI), rayleigh.ratio(w))
+            })
+            .collect()
+    });
+    let mut summary =
+        integrate(spec, dynamics, &model, &state.config, system, writer, stop, progress, rayleigh)?;
+    summary.modal_damping = modal_damping;
+    Ok(summary)
 }
 
 fn settings(d: &DynamicsSpec) -> IntegratorSettings {
@@ -229,6 +244,7 @@ fn integrate(
         factorisations: stats.factorisations,
         rayleigh: (rayleigh.mass, rayleigh.stiffness),
         energy_balance_error: energy.worst,
+        modal_damping: Vec::new(),
     })
 }
 
@@ -354,11 +370,7 @@ fn record(
         displacement: (0..nn)
             .map(|i| std::array::from_fn(|d| config.positions[i][d] - start.positions[i][d]))
             .collect(),
-        rotation: config
-            .rotations
-            .iter()
-            .map(glaze_elements::so3::to_quaternion)
-            .collect(),
+        rotation: config.rotations.iter().map(glaze_elements::so3::to_quaternion).collect(),
         velocity,
         axial_force,
         support_force: support_forces(model, config, sys, v, integ.time()),

@@ -125,12 +125,8 @@ impl ResultsWriter {
         let n = model.node_count();
         let pos = Array2::from_shape_fn((n, 3), |(i, d)| result.config.positions[i][d]);
         write_f64(&g, "position", pos.view().into_dyn(), "m", t)?;
-        let quats: Vec<[f64; 4]> = result
-            .config
-            .rotations
-            .iter()
-            .map(glaze_elements::so3::to_quaternion)
-            .collect();
+        let quats: Vec<[f64; 4]> =
+            result.config.rotations.iter().map(glaze_elements::so3::to_quaternion).collect();
         let rot = Array2::from_shape_fn((n, 4), |(i, k)| quats[i][k]);
         write_f64(&g, "rotation", rot.view().into_dyn(), "1", t)?;
         let axial: Array1<f64> = result.element_output.iter().map(|o| o.axial_force).collect();

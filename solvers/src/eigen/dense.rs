@@ -29,7 +29,7 @@
 
 use faer::{Mat, MatRef, Side};
 
-use super::{check_input, normalise, residual_and_floor, too_many, EigenPairs, EigenSettings};
+use super::{check_input, normalise, too_many, EigenPairs, EigenSettings, Pencil};
 use crate::{SolverError, SparseDirect, SparsityPattern};
 
 /// Ratio (relative to ε·n·max μ) under which μ counts as zero (λ infinite).
@@ -191,6 +191,7 @@ fn solve_factored(
     let mut y = Mat::from_fn(n, chosen.len(), |r, c| u[(r, chosen[c].0)]);
     l.transpose().solve_upper_triangular_in_place(&mut y);
     let (mut kx, mut mx) = (vec![0.0; n], vec![0.0; n]);
+    let pencil = Pencil::new(pattern, k, m);
     let mut pairs = EigenPairs {
         values: Vec::with_capacity(chosen.len()),
         vectors: Vec::with_capacity(chosen.len()),
@@ -203,7 +204,7 @@ fn solve_factored(
         let mut phi = y.col_as_slice(c).to_vec();
         pattern.mul_vec(m, &phi, &mut mx);
         normalise(&mut phi, &mx);
-        let (r, _) = residual_and_floor(pattern, k, m, lambda, &phi, &mut kx, &mut mx);
+        let r = pencil.residual(lambda, &phi, &mut kx, &mut mx).value;
         pairs.values.push(lambda);
         pairs.vectors.push(phi);
         pairs.residuals.push(r);

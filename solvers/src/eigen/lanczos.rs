@@ -37,17 +37,21 @@
 //! plus one coupling row. After an invariant subspace (β ≈ 0) the iteration
 //! continues from a fresh pseudo-random vector orthogonal to the basis.
 //!
-//! **Acceptance and locking.** A Ritz pair is accepted on its *true*
-//! residual $\|K\varphi - \lambda M\varphi\| / (\|K\varphi\| + |\lambda|\|M\varphi\|)$
-//! with the original K and M, λ its Rayleigh quotient, when it is within
-//! [`EigenSettings::tolerance`] or within the rounding floor of evaluating the
-//! residual itself (≈ ε·‖K‖/(λ‖M‖); the lowest modes of a stiff model cannot
-//! do better). Locking (removing the pair from the active basis; every new
-//! vector is then orthogonalised against it) drops the pair's coupling
-//! β·s_m to the rest of the basis, a perturbation of Op of that size, so a
-//! pair is locked only once its Ritz residual β|s_m| is also below
-//! 0.01·tolerance·μ (or at rounding level): otherwise the other copy of a
-//! repeated eigenvalue could not reach the tolerance afterwards.
+//! **Acceptance and locking.** A Ritz pair is locked (removed from the
+//! active basis; every new vector is then orthogonalised against it) when
+//! (a) its Ritz residual β|s_m| is below 0.01·tolerance·μ (or at rounding
+//! level) — locking drops the pair's coupling β·s_m to the rest of the basis,
+//! a perturbation of Op of that size, which must stay far below the accuracy
+//! asked of the other pairs (otherwise the second copy of a repeated
+//! eigenvalue cannot reach the tolerance afterwards); and (b) its *true*
+//! residual $\|K\varphi - \lambda M\varphi\| / (\|K\varphi\| + |\lambda|\|M\varphi\|)$,
+//! with the original K and M and λ the Rayleigh quotient, is within
+//! [`EigenSettings::tolerance`] or its rounding floor. The floor (see
+//! [`EigenPairs::residuals`]) is the larger of the rounding error of
+//! evaluating the residual and 10× the residual of a normwise backward error
+//! of ε; during the iteration it is widened by μ_max/μ because a long Krylov
+//! recurrence represents Op only to ≈ ε·μ_max, so the Ritz vectors of the
+//! smaller μ carry proportionally larger rounding errors.
 //!
 //! **Missed copies of repeated eigenvalues.** A Krylov space from one start
 //! vector holds one direction of each eigenspace, so a second copy of a
@@ -58,8 +62,19 @@
 //! θ + ‖r‖ not above the smallest locked μ, or has converged to an
 //! eigenvalue equal to the largest locked one, or the space is exhausted. A
 //! smaller eigenvalue found this way replaces the largest locked pair and the
-//! check repeats. Finally one Rayleigh–Ritz step on the span of the returned
-//! vectors (in K and M) makes them M-orthonormal to rounding.
+//! check repeats.
+//!
+//! **Final refinement.** One Rayleigh–Ritz step for (K, M) on the span of the
+//! locked vectors makes them M-orthonormal to rounding. If a pair then misses
+//! its tolerance (the rounding errors of the recurrence, typical for the
+//! higher wanted modes of a stiff model with a wide spectrum), up to three
+//! block refinement rounds follow: Rayleigh–Ritz on span(X, Op X), X the
+//! wanted vectors plus count/2 (at least 2) guard vectors, the Ritz vectors
+//! beyond the wanted ones from the last active basis (one block Lanczos
+//! step; the guards supply the neighbouring directions the errors of the
+//! highest wanted modes lie in). Each round costs count + guards solves. If a
+//! pair still misses its tolerance, [`SolverError::EigenNotConverged`] is
+//! returned.
 //!
 //! **Singular M (massless DOF).** Chosen approach: *no explicit
 //! condensation*; the spectral transformation does it implicitly. M is never
@@ -91,7 +106,7 @@
 use faer::linalg::matmul::matmul;
 use faer::{Accum, Col, ColMut, ColRef, Mat, MatRef, Par, Side};
 
-use super::{check_input, normalise, residual_and_floor, too_many, EigenPairs, EigenSettings};
+use super::{check_input, normalise, too_many, EigenPairs, EigenSettings, Pencil, Residual};
 use crate::{Factorisation, LinearSolver, SolverError, SparseDirect, SparsityPattern};
 
 /// Ritz values μ ≤ this · n · ε · max|μ| are taken as μ = 0 (infinite λ).
@@ -112,6 +127,8 @@ const VERIFY_RITZ: f64 = 1e-6;
 const TIE: f64 = 1e-8;
 /// Seed of the start vectors (deterministic runs).
 const SEED: u64 = 0x9e1a_2e5e_ed00_0001;
+/// Block refinement rounds at most in the final step.
+const REFINE_ROUNDS: usize = 3;
 /// In the verification phase, Ritz values are examined every this many steps.
 const CHECK_EVERY: usize = 5;
 
@@ -186,6 +203,8 @@ pub fn lanczos_shift_invert(
         settings,
         solver,
         b,
+        pencil: Pencil::new(pattern, k, m),
+        guard: Vec::new(),
         applications: 0,
         rng: Lcg(SEED),
         locked: Vec::new(),
@@ -266,6 +285,10 @@ struct Lanczos<'a> {
     solver: SparseDirect,
     /// Values of the inner-product matrix B (positive definite) on the pattern.
     b: Vec<f64>,
+    /// K and M with their norms, for the true residuals.
+    pencil: Pencil<'a>,
+    /// Approximate eigenvectors beyond the wanted ones (final refinement).
+    guard: Vec<Vec<f64>>,
     applications: usize,
     rng: Lcg,
     /// Accepted pairs, ascending λ, at most `count`.
@@ -349,7 +372,7 @@ impl Lanczos<'_> {
         let r: Vec<f64> = (0..self.n).map(|_| self.rng.symmetric()).collect();
         let mut w = self.apply(&r)?;
         let (before, after, bw) = self.orthogonalise(&mut w, None)?;
-        if !(after > TINY * before) {
+        if after <= TINY * before || after.is_nan() {
             return Ok(None);
         }
         Ok(Some((scaled(&w, 1.0 / after), scaled(&bw, 1.0 / after))))
@@ -358,7 +381,8 @@ impl Lanczos<'_> {
     /// Applies Op to the last basis vector and fills its column of `h`.
     fn expand(&mut self) -> Result<Step, SolverError> {
         let j = self.len - 1;
-        let mut w = self.apply(&self.vb.col_as_slice(j).to_vec())?;
+        let v = self.vb.col_as_slice(j).to_vec();
+        let mut w = self.apply(&v)?;
         let mut coeffs = vec![0.0; j + 1];
         let (before, after, bw) = self.orthogonalise(&mut w, Some(&mut coeffs))?;
         for (i, c) in coeffs.iter().enumerate() {
@@ -366,7 +390,7 @@ impl Lanczos<'_> {
         }
         let next = if self.len + self.locked.len() >= self.n {
             None
-        } else if !(after > TINY * before) {
+        } else if after <= TINY * before || after.is_nan() {
             // Invariant subspace: continue with a fresh direction.
             self.fresh_vector()?
         } else {
@@ -457,28 +481,18 @@ impl Lanczos<'_> {
             // Ericsson–Ruhe purification: x = y + (s_m / θ) r = Op y / θ.
             let y = self.combine(&self.vb, s, i);
             let mut x = y.clone();
-            match std::env::var("LZ_PUR").as_deref() {
-                Ok("solve") => { x = self.apply(&y).unwrap(); }
-                Ok("none") => {}
-                _ => axpy(s[(len - 1, i)] / theta[i], &step.raw, &mut x),
-            }
+            axpy(s[(len - 1, i)] / theta[i], &step.raw, &mut x);
             self.pattern.mul_vec(self.m, &x, &mut self.mx);
             let norm = dot(&x, &self.mx).sqrt();
             x.iter_mut().for_each(|v| *v /= norm);
             self.pattern.mul_vec(self.k, &x, &mut self.kx);
             let lambda = dot(&x, &self.kx);
-            let (res, floor) =
-                residual_and_floor(self.pattern, self.k, self.m, lambda, &x, &mut self.kx, &mut self.mx);
-            if std::env::var("LZ_DEBUG").is_ok() {
-                let norm1 = |v: &[f64]| (0..self.n).map(|j| (self.pattern.col_ptr()[j]..self.pattern.col_ptr()[j+1]).map(|q| v[q].abs()).sum::<f64>()).fold(0.0f64, f64::max);
-                self.pattern.mul_vec(self.k, &x, &mut self.kx);
-                self.pattern.mul_vec(self.m, &x, &mut self.mx);
-                let base = f64::EPSILON * (norm1(self.k) + lambda.abs() * norm1(self.m)) * dot(&x, &x).sqrt() / (dot(&self.kx, &self.kx).sqrt() + lambda.abs() * dot(&self.mx, &self.mx).sqrt());
-                eprintln!("  ratio res/base {:.1}", res / base);
-                eprintln!("  cand r{rank} θ {:.6e} est/θ {:.2e} λ {lambda:.10e} res {res:.2e} floor {floor:.2e} lockable {lockable} locked {}", theta[i], estimate/theta[i], self.locked.len());
-            }
-            let floor = floor * std::env::var("LZ_FLOOR").ok().and_then(|v| v.parse::<f64>().ok()).unwrap_or(1.0);
-            if !(res <= self.settings.tolerance.max(floor)) || lambda <= self.settings.shift {
+            let res = self.pencil.residual(lambda, &x, &mut self.kx, &mut self.mx);
+            // A Krylov basis represents Op to about ε·max μ, so the Ritz vector
+            // of μ carries rounding errors ~ε·max μ / μ (relative): its floor
+            // is spread by that ratio; the final refinement removes it.
+            let floor = res.floor(self.settings.tolerance, scale / theta[i]);
+            if res.value > floor || res.value.is_nan() || lambda <= self.settings.shift {
                 continue;
             }
             accepted += 1;
@@ -530,6 +544,25 @@ impl Lanczos<'_> {
         }
     }
 
+    /// Keeps the (purified) Ritz vectors of the largest positive Ritz values
+    /// of the final active basis, approximations of the eigenvectors just
+    /// beyond the wanted ones, for the final refinement.
+    fn keep_guards(&mut self, theta: &[f64], s: &Mat<f64>, step: &Step) {
+        let len = self.len;
+        let mut order: Vec<usize> = (0..len).filter(|&i| theta[i] > 0.0).collect();
+        order.sort_by(|&a, &b| theta[b].total_cmp(&theta[a]));
+        let guards = (self.settings.count / 2).max(2);
+        self.guard = order
+            .iter()
+            .take(guards)
+            .map(|&i| {
+                let mut x = self.combine(&self.vb, s, i);
+                axpy(s[(len - 1, i)] / theta[i], &step.raw, &mut x);
+                x
+            })
+            .collect();
+    }
+
     /// Discards the active basis and starts from a fresh vector; false if
     /// none is left.
     fn fresh_start(&mut self) -> Result<bool, SolverError> {
@@ -559,7 +592,7 @@ impl Lanczos<'_> {
             let step = self.expand()?;
             let exhausted = step.next.is_none();
             let full = self.len >= cap;
-            let check_due = verifying && self.len >= 2 * CHECK_EVERY && self.len % CHECK_EVERY == 0;
+            let check_due = verifying && self.len >= 2 * CHECK_EVERY && self.len.is_multiple_of(CHECK_EVERY);
             if !(full || exhausted || check_due) {
                 self.push(step.next.expect("not exhausted"));
                 continue;
@@ -568,6 +601,7 @@ impl Lanczos<'_> {
             let ex = self.examine(&theta, &s, &step, verifying);
             let done_locking = self.locked.len() == count;
             if done_locking && (exhausted || (verifying && ex.verified && ex.locked.is_empty())) {
+                self.keep_guards(&theta, &s, &step);
                 return Ok(restarts);
             }
             if exhausted {
@@ -602,29 +636,25 @@ impl Lanczos<'_> {
         }
     }
 
-    /// Rayleigh–Ritz on the span of the locked vectors (M-orthonormal to
-    /// rounding), sign convention, residuals.
-    fn finish(mut self, restarts: usize) -> Result<EigenPairs, SolverError> {
-        let c = self.locked.len();
-        let mut x: Vec<Vec<f64>> = self.locked.iter().map(|l| l.x.clone()).collect();
-        if std::env::var("LZ_REFINE").is_ok() {
-            for v in x.iter_mut() {
-                *v = self.apply(v)?;
-            }
-        }
-        let mut kx = Vec::with_capacity(c);
-        let mut mx = Vec::with_capacity(c);
-        for v in &x {
+    /// Rayleigh–Ritz for the pencil (K, M) on the span of the M-orthonormal
+    /// `w`: the Ritz pairs with λ above σ, ascending, M-normalised with the
+    /// sign convention, and their residuals.
+    fn rayleigh_ritz(&mut self, w: &[Vec<f64>]) -> Result<Vec<(f64, Vec<f64>, Residual)>, SolverError> {
+        let c = w.len();
+        let mut kw = Vec::with_capacity(c);
+        let mut mw = Vec::with_capacity(c);
+        for v in w {
             self.pattern.mul_vec(self.k, v, &mut self.kx);
             self.pattern.mul_vec(self.m, v, &mut self.mx);
-            kx.push(self.kx.clone());
-            mx.push(self.mx.clone());
+            kw.push(self.kx.clone());
+            mw.push(self.mx.clone());
         }
-        let g = Mat::from_fn(c, c, |i, j| 0.5 * (dot(&x[i], &mx[j]) + dot(&x[j], &mx[i])));
-        let kp = Mat::from_fn(c, c, |i, j| 0.5 * (dot(&x[i], &kx[j]) + dot(&x[j], &kx[i])));
+        let g = Mat::from_fn(c, c, |i, j| 0.5 * (dot(&w[i], &mw[j]) + dot(&w[j], &mw[i])));
+        let kp = Mat::from_fn(c, c, |i, j| 0.5 * (dot(&w[i], &kw[j]) + dot(&w[j], &kw[i])));
+        // G ≈ I; C = L⁻¹ Kp L⁻ᵀ.
         let llt = g
             .llt(Side::Lower)
-            .map_err(|e| SolverError::Faer(format!("locked eigenvectors are not M-independent: {e:?}")))?;
+            .map_err(|e| SolverError::Faer(format!("eigenvector basis is not M-independent: {e:?}")))?;
         let l = llt.L();
         let mut t = kp.clone();
         l.solve_lower_triangular_in_place(&mut t);
@@ -633,10 +663,97 @@ impl Lanczos<'_> {
         let cmat = Mat::from_fn(c, c, |i, j| 0.5 * (cmat[(i, j)] + cmat[(j, i)]));
         let evd = cmat
             .self_adjoint_eigen(Side::Lower)
-            .map_err(|e| SolverError::Faer(format!("final Rayleigh–Ritz eigen solver: {e:?}")))?;
+            .map_err(|e| SolverError::Faer(format!("Rayleigh–Ritz eigen solver: {e:?}")))?;
         let mut q = evd.U().to_owned();
         l.transpose().solve_upper_triangular_in_place(&mut q);
-        let values: Vec<f64> = evd.S().column_vector().iter().copied().collect();
+        let values = evd.S().column_vector();
+        let mut out = Vec::new();
+        for a in 0..c {
+            let lambda = values[a];
+            if lambda <= self.settings.shift {
+                continue;
+            }
+            let mut phi = vec![0.0; self.n];
+            for (b, v) in w.iter().enumerate() {
+                axpy(q[(b, a)], v, &mut phi);
+            }
+            self.pattern.mul_vec(self.m, &phi, &mut self.mx);
+            normalise(&mut phi, &self.mx);
+            let res = self.pencil.residual(lambda, &phi, &mut self.kx, &mut self.mx);
+            out.push((lambda, phi, res));
+        }
+        Ok(out)
+    }
+
+    /// M-orthonormal basis of span(`vectors`) by classical Gram–Schmidt twice,
+    /// dropping vectors that are (numerically) in the span of the previous ones.
+    fn m_orthonormal(&mut self, vectors: Vec<Vec<f64>>) -> Vec<Vec<f64>> {
+        let mut q: Vec<Vec<f64>> = Vec::with_capacity(vectors.len());
+        let mut mq: Vec<Vec<f64>> = Vec::with_capacity(vectors.len());
+        for mut v in vectors {
+            self.pattern.mul_vec(self.m, &v, &mut self.mx);
+            let before = dot(&v, &self.mx).max(0.0).sqrt();
+            for _pass in 0..2 {
+                let c: Vec<f64> = mq.iter().map(|mqj| dot(mqj, &v)).collect();
+                for (qj, cj) in q.iter().zip(&c) {
+                    axpy(-cj, qj, &mut v);
+                }
+            }
+            self.pattern.mul_vec(self.m, &v, &mut self.mx);
+            let after = dot(&v, &self.mx).max(0.0).sqrt();
+            if after > TINY * before && after > 0.0 {
+                v.iter_mut().for_each(|x| *x /= after);
+                mq.push(scaled(&self.mx, 1.0 / after));
+                q.push(v);
+            }
+        }
+        q
+    }
+
+    /// Final Rayleigh–Ritz on the locked vectors and, while a pair is not
+    /// within its tolerance, block refinement: Rayleigh–Ritz on
+    /// span(X, Op X) (one block Lanczos step; `count` solves), which removes
+    /// the rounding errors the long Krylov recurrence left in the vectors of
+    /// the smaller μ.
+    fn finish(mut self, restarts: usize) -> Result<EigenPairs, SolverError> {
+        let c = self.locked.len();
+        let tol = self.settings.tolerance;
+        let worst = |pairs: &[(f64, Vec<f64>, Residual)]| {
+            pairs.iter().map(|(_, _, r)| r.value / r.floor(tol, 1.0)).fold(0.0f64, f64::max)
+        };
+        let x: Vec<Vec<f64>> = self.locked.iter().map(|l| l.x.clone()).collect();
+        let x = self.m_orthonormal(x);
+        let mut best = self.rayleigh_ritz(&x)?;
+        best.truncate(c);
+        // The refinement block: the wanted vectors and the guards.
+        let mut block: Vec<Vec<f64>> = x;
+        block.extend(std::mem::take(&mut self.guard));
+        for _round in 0..REFINE_ROUNDS {
+            if best.len() == c && worst(&best) <= 1.0 {
+                break;
+            }
+            let mut w = block.clone();
+            for v in &block {
+                w.push(self.apply(v)?);
+            }
+            let w = self.m_orthonormal(w);
+            let mut refined = self.rayleigh_ritz(&w)?;
+            refined.truncate(block.len());
+            block = refined.iter().map(|(_, v, _)| v.clone()).collect();
+            refined.truncate(c);
+            if refined.len() < c || worst(&refined) >= worst(&best) {
+                break;
+            }
+            best = refined;
+        }
+        let accepted = best.iter().filter(|(_, _, r)| r.value <= r.floor(tol, 1.0)).count();
+        if best.len() < c || accepted < c {
+            return Err(SolverError::EigenNotConverged {
+                found: accepted,
+                wanted: self.settings.count,
+                restarts,
+            });
+        }
         let mut pairs = EigenPairs {
             values: Vec::with_capacity(c),
             vectors: Vec::with_capacity(c),
@@ -645,18 +762,10 @@ impl Lanczos<'_> {
             operator_applications: self.applications,
             factor_stats: self.solver.stats(),
         };
-        for (a, &lambda) in values.iter().enumerate() {
-            let mut phi = vec![0.0; self.n];
-            for (b, v) in x.iter().enumerate() {
-                axpy(q[(b, a)], v, &mut phi);
-            }
-            self.pattern.mul_vec(self.m, &phi, &mut self.mx);
-            normalise(&mut phi, &self.mx);
-            let (res, _) =
-                residual_and_floor(self.pattern, self.k, self.m, lambda, &phi, &mut self.kx, &mut self.mx);
+        for (lambda, phi, res) in best {
             pairs.values.push(lambda);
             pairs.vectors.push(phi);
-            pairs.residuals.push(res);
+            pairs.residuals.push(res.value);
         }
         Ok(pairs)
     }
