@@ -14,21 +14,32 @@
 //! Two energy totals are checked:
 //!
 //! 1. the engine's own columns of `/dynamic/energy`: kinetic + strain +
-//!    gravity_potential (+ dissipated − aerodynamic_work, both zero here);
+//!    gravity_potential (+ dissipated − aerodynamic_work, both zero here):
+//!    within 0.1 % of E_s over 100 periods (issue 4);
 //! 2. an independent total from the other histories: kinetic energy
 //!    `½ Σ m_i |v_i|²` from `/dynamic/velocity` with the lumped masses,
-//!    strain energy `Σ N² L_t / (2 EA)` from `/dynamic/element_axial_force`
-//!    (Hooke's law of the elastic cable, Irvine 1981, *Cable Structures*,
-//!    ch. 2), and the work of gravity `Σ W_i Δz_i` from
-//!    `/dynamic/displacement`.
+//!    stored strain energy `Σ N² L_t / (2 EA)` from
+//!    `/dynamic/element_axial_force` (Hooke's law of the elastic cable,
+//!    Irvine 1981, *Cable Structures*, ch. 2), and the work of gravity
+//!    `Σ W_i Δz_i` from `/dynamic/displacement`. The engine's `strain`
+//!    column is the trapezoidal work of the internal forces, the very
+//!    quantity the schemes conserve, so it balances by construction; the
+//!    stored energy differs from it by the trapezoidal quadrature error of
+//!    `∫ f·dq`, which is bounded and O(h²). Checked: within 1 % of E_s at
+//!    every record, and no secular drift (mean over the last 10 periods
+//!    within 0.1 % of E_s of the mean over the first 10).
 //!
 //! Normalisation (stated, as the issue asks): the energy that swings, E_s =
-//! the largest kinetic energy of the run. The cable is released at rest
-//! from the perturbed shape, so E_s is the potential energy of the
-//! perturbation above the static state (at the passage through it), about
-//! 10² J here; the absolute energy levels (strain energy of the static
+//! the largest kinetic energy in the first period. The cable is released at
+//! rest from the perturbed shape, so E_s is (nearly) the potential energy of
+//! the perturbation above the static state, released at the passage through
+//! it: 166 J here. The absolute energy levels (strain energy of the static
 //! tension, potential of the weight) are arbitrary offsets and are not used.
-//! Tolerance 0.1 % of E_s (issue 4) on |E(t) − E(0)| over the whole run.
+//!
+//! The span is chosen so that the 1 m swing never slackens the cable (see
+//! [`DEEP`]); a shallower span where it does is the last test, which shows
+//! the trapezoidal rule's nonlinear instability and that the engine's
+//! energy diagnostics do not report it.
 
 use glaze_engine::analysis::dynamic_stage::run_dynamic;
 use glaze_engine::analysis::{run_modal, run_static, ModalSettings};
@@ -104,6 +115,9 @@ struct Run {
     engine_drift: f64,
     /// Largest |E − E(0)| / E_s, independent total.
     independent_drift: f64,
+    /// Mean of the independent total over the last 10 % of the run less its
+    /// mean over the first 10 %, over E_s (secular drift).
+    independent_secular: f64,
     /// Largest |strain column − (U − U(0))| / E_s, U = Σ N² L_t / (2 EA).
     strain_mismatch: f64,
     /// The run summary's energy balance error (relative to its largest term).
@@ -141,7 +155,7 @@ fn first_mode_period(span: Span) -> f64 {
 
 /// `periods` periods of the first mode after a 1 m perturbation in it.
 fn run(span: Span, scheme: &str, period: f64, periods: f64) -> Run {
-    let dt = period / std::env::var("SPP").ok().and_then(|s| s.parse().ok()).unwrap_or(STEPS_PER_PERIOD);
+    let dt = period / STEPS_PER_PERIOD;
     let duration = periods * period;
     let dynamics = format!(
         "[dynamics]\nduration = {duration}\ntime_step = {dt}\noutput_interval = {dt}\n{scheme}\nperturbation = {{ mode = 1, amplitude = 1.0 }}\n"
@@ -219,19 +233,14 @@ fn run(span: Span, scheme: &str, period: f64, periods: f64) -> Run {
         assert!(e(r, cd).abs() < 1e-9 && e(r, ca).abs() < 1e-9, "no damping or wind");
         engine_drift = engine_drift.max((engine_total(r) - e0).abs() / swing_energy);
         independent_drift = independent_drift.max((independent_total(r) - i0).abs() / swing_energy);
-        if std::env::var("DEBUG_E").is_ok() && r % 125 == 0 {
-            eprintln!(
-                "t {:8.2} indep {:+.3e} engine {:+.3e} KE {:.3e} U-U0 {:+.3e} strain col {:+.3e}",
-                time[r],
-                independent_total(r) - i0,
-                engine_total(r) - e0,
-                e(r, ck),
-                strain_energy(r) - u0,
-                e(r, cs)
-            );
-        }
         strain_mismatch = strain_mismatch.max((e(r, cs) - (strain_energy(r) - u0)).abs() / swing_energy);
     }
+    let mean = |range: std::ops::Range<usize>| {
+        let k = range.len() as f64;
+        range.map(independent_total).sum::<f64>() / k
+    };
+    let tenth = records / 10;
+    let independent_secular = (mean(records - tenth..records) - mean(0..tenth)) / swing_energy;
     let peak_kinetic = (0..records).map(|r| e(r, ck)).fold(0.0, f64::max);
     let min_tension = axial.iter().copied().fold(f64::INFINITY, f64::min);
     // The swing is still there at the end (lateral midspan motion).
@@ -242,6 +251,7 @@ fn run(span: Span, scheme: &str, period: f64, periods: f64) -> Run {
         swing_energy,
         engine_drift,
         independent_drift,
+        independent_secular,
         strain_mismatch,
         reported_balance_error: summary.energy_balance_error,
         peak_kinetic,
@@ -255,12 +265,14 @@ fn run(span: Span, scheme: &str, period: f64, periods: f64) -> Run {
 
 fn describe(label: &str, period: f64, r: &Run) -> String {
     format!(
-        "{label}: T1 = {period:.4} s, E_s = {:.2} J, drift engine {:.2e}, independent {:.2e}, \
+        "{label}: T1 = {period:.4} s, E_s = {:.2} J, drift engine {:.2e}, independent {:.2e} \
+         (secular {:+.2e}), \
          strain column vs stored {:.2e} (of E_s); reported balance error {:.2e}; peak KE {:.3e} J, \
          min tension {:.0} N, late lateral amplitude {:.3} m; {} records, {} steps, {:.2} Newton it./step",
         r.swing_energy,
         r.engine_drift,
         r.independent_drift,
+        r.independent_secular,
         r.strain_mismatch,
         r.reported_balance_error,
         r.peak_kinetic,
@@ -281,7 +293,14 @@ fn check(scheme: &str) {
     assert!(r.min_tension > 0.0, "{text}");
     // 0.1 % of the swinging energy over 100 periods (issue 4).
     assert!(r.engine_drift < 1e-3, "engine energy drift: {text}");
-    assert!(r.independent_drift < 1e-3, "independent energy drift: {text}");
+    // The independent total (stored strain energy instead of the
+    // trapezoidal work) differs from the conserved discrete energy by the
+    // trapezoidal quadrature error of ∫ f·dq, bounded and O(h²): measured
+    // 0.35 % of E_s at T/50 and 0.08 % at T/100. 1 % bound, and no secular
+    // drift: the mean over the last 10 periods within 0.1 % of E_s of the
+    // mean over the first 10.
+    assert!(r.independent_drift < 1e-2, "independent energy deviation: {text}");
+    assert!(r.independent_secular.abs() < 1e-3, "independent energy secular drift: {text}");
     // Without dissipation the swing keeps its amplitude (1 m released; at
     // least 0.8 m still reached in the last 10 periods).
     assert!(r.late_amplitude > 0.8, "late amplitude: {text}");

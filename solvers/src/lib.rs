@@ -16,6 +16,11 @@
 //!   $M a + C v + g(q, v, t) = 0$ by HHT-α, generalised-α or Newmark
 //!   ([`Scheme`]), Newton per step (optionally modified Newton reusing the
 //!   factor), automatic step cut-back and regrowth.
+//! - [`lanczos_shift_invert`] — the lowest eigenpairs of $K\varphi = \lambda M\varphi$
+//!   above a shift by shift-invert Lanczos (full reorthogonalisation, thick
+//!   restarts, acceptance on the true residual, singular M allowed);
+//!   [`dense_shift_invert`] — its dense reference ([`EigenSettings`],
+//!   [`EigenPairs`]).
 //!
 //! Units are SI throughout: forces in N (moments N·m), displacements in m
 //! (rotations rad); load factors and tolerances are dimensionless.
