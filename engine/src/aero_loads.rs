@@ -38,6 +38,15 @@ pub struct NodeVelocity {
     pub angular: Vector3<f64>,
 }
 
+/// The mean wind acting on an element, its velocity scaled by `scale`.
+#[derive(Clone, Copy, Debug)]
+pub struct Flow<'a> {
+    /// The wind of the load case.
+    pub wind: &'a WindSpec,
+    /// Factor on the wind velocity (ramps and load stepping), dimensionless.
+    pub scale: f64,
+}
+
 /// Gauss–Legendre points and weights on [−1, 1], two points.
 const GAUSS: [(f64, f64); 2] = [(-0.577_350_269_189_625_8, 1.0), (0.577_350_269_189_625_8, 1.0)];
 
@@ -45,12 +54,12 @@ const GAUSS: [(f64, f64); 2] = [(-0.577_350_269_189_625_8, 1.0), (0.577_350_269_
 /// and N·m) of a two-node element, with the wind velocity scaled by `scale`.
 pub fn element_load(
     aero: &ElementAero,
-    wind: &WindSpec,
-    scale: f64,
+    flow: Flow<'_>,
     nodes: &[NodeState],
     vel: &[NodeVelocity; 2],
     out: &mut [f64],
 ) -> Result<(), TableError> {
+    let (wind, scale) = (flow.wind, flow.scale);
     out[..2 * DOF_PER_NODE].fill(0.0);
     let chord = nodes[1].x - nodes[0].x;
     let length = chord.norm();
@@ -111,8 +120,7 @@ pub enum Derivative {
 /// Loads `f` and their 12×12 row-major Jacobian `jac` (see [`Derivative`]).
 pub fn element_jacobian(
     aero: &ElementAero,
-    wind: &WindSpec,
-    scale: f64,
+    flow: Flow<'_>,
     nodes: &[NodeState],
     vel: &[NodeVelocity; 2],
     which: Derivative,
@@ -120,7 +128,8 @@ pub fn element_jacobian(
     jac: &mut [f64],
 ) -> Result<(), TableError> {
     const M: usize = 2 * DOF_PER_NODE;
-    element_load(aero, wind, scale, nodes, vel, f)?;
+    let (wind, scale) = (flow.wind, flow.scale);
+    element_load(aero, flow, nodes, vel, f)?;
     jac[..M * M].fill(0.0);
     let length = (nodes[1].x - nodes[0].x).norm().max(1e-9);
     let speed = (wind.wind.speed * scale).max(1.0);
@@ -150,7 +159,7 @@ pub fn element_jacobian(
                 (Derivative::Velocity, true) => v[a].velocity[d] += sign * h,
                 (Derivative::Velocity, false) => v[a].angular[d - 3] += sign * h,
             }
-            element_load(aero, wind, scale, &pert, &v, out)?;
+            element_load(aero, flow, &pert, &v, out)?;
         }
         pert[a] = nodes[a];
         for row in 0..M {

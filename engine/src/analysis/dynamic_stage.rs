@@ -423,7 +423,15 @@ fn support_forces(
                 .collect();
             let vel = [node_velocity(model, v, ids[0]), node_velocity(model, v, ids[1])];
             let mut f = [0.0; 2 * DOF_PER_NODE];
-            if crate::aero_loads::element_load(aero, &wind, scale, &nodes, &vel, &mut f).is_ok() {
+            if crate::aero_loads::element_load(
+                aero,
+                crate::aero_loads::Flow { wind: &wind, scale },
+                &nodes,
+                &vel,
+                &mut f,
+            )
+            .is_ok()
+            {
                 for (a, &n) in ids.iter().enumerate() {
                     for d in 0..DOF_PER_NODE {
                         full[n * DOF_PER_NODE + d] -= f[a * DOF_PER_NODE + d];

@@ -18,7 +18,7 @@
 //! the nearly axisymmetric, slowly twisting sections of conductors.
 
 use super::static_system::Configuration;
-use crate::aero_loads::{element_jacobian, element_load, Derivative, NodeVelocity};
+use crate::aero_loads::{element_jacobian, element_load, Derivative, Flow, NodeVelocity};
 use crate::model::{Model, DOF_PER_NODE};
 use glaze_elements::{so3, ElementContext, NodeState};
 use glaze_solvers::{Assembler, EvalError, SecondOrderSystem, SparsityPattern};
@@ -179,8 +179,7 @@ impl<'m> DynamicSystem<'m> {
                 if let Some(k) = k.as_deref_mut() {
                     element_jacobian(
                         aero,
-                        &wind,
-                        scale,
+                        Flow { wind: &wind, scale },
                         &self.gather,
                         &vel,
                         Derivative::Displacement,
@@ -194,8 +193,7 @@ impl<'m> DynamicSystem<'m> {
                 if let Some(d) = d.as_deref_mut() {
                     element_jacobian(
                         aero,
-                        &wind,
-                        scale,
+                        Flow { wind: &wind, scale },
                         &self.gather,
                         &vel,
                         Derivative::Velocity,
@@ -207,8 +205,14 @@ impl<'m> DynamicSystem<'m> {
                     self.assembler.add_matrix(e, &self.k_local[..M * M], d);
                 }
                 if k.is_none() && d.is_none() {
-                    element_load(aero, &wind, scale, &self.gather, &vel, &mut self.f_local[..M])
-                        .map_err(fail)?;
+                    element_load(
+                        aero,
+                        Flow { wind: &wind, scale },
+                        &self.gather,
+                        &vel,
+                        &mut self.f_local[..M],
+                    )
+                    .map_err(fail)?;
                 }
                 self.assembler.add_vector(e, &self.f_local[..M], &mut self.aero_force);
             }

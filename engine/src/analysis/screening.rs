@@ -23,7 +23,7 @@
 
 use super::modal::{describe, node_frames, Linearisation, ModalSettings};
 use super::static_stage::run_static;
-use crate::aero_loads::{element_jacobian, Derivative, NodeVelocity};
+use crate::aero_loads::{element_jacobian, Derivative, Flow, NodeVelocity};
 use crate::error::{GlazeError, InputErrorKind};
 use crate::input::Locator;
 use crate::model::{self, DOF_PER_NODE};
@@ -208,8 +208,7 @@ pub fn modal_aero_damping(
             .collect();
         element_jacobian(
             aero,
-            &wind,
-            1.0,
+            Flow { wind: &wind, scale: 1.0 },
             &nodes,
             &[NodeVelocity::default(); 2],
             Derivative::Velocity,

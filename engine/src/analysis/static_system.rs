@@ -9,7 +9,7 @@
 //! of [`crate::aero_loads`] join the residual and their derivatives the
 //! (unsymmetric) tangent.
 
-use crate::aero_loads::{element_jacobian, element_load, Derivative, NodeVelocity};
+use crate::aero_loads::{element_jacobian, element_load, Derivative, Flow, NodeVelocity};
 use crate::model::{Model, DOF_PER_NODE};
 use glaze_elements::{so3, ElementContext, NodeState};
 use glaze_solvers::{Assembler, EvalError, NonlinearSystem, SparsityPattern};
@@ -123,8 +123,7 @@ impl<'m> StaticSystem<'m> {
             let m = 2 * DOF_PER_NODE;
             if element_load(
                 aero,
-                &wind,
-                scale,
+                Flow { wind: &wind, scale },
                 &self.gather,
                 &[NodeVelocity::default(); 2],
                 &mut self.f_local[..m],
@@ -233,8 +232,7 @@ impl NonlinearSystem for StaticSystem<'_> {
                     Some(t) => {
                         let r = element_jacobian(
                             aero,
-                            &wind,
-                            scale,
+                            Flow { wind: &wind, scale },
                             &self.gather,
                             &rest,
                             Derivative::Displacement,
@@ -246,7 +244,13 @@ impl NonlinearSystem for StaticSystem<'_> {
                         self.assembler.add_matrix(e, &self.k_local[..m * m], t);
                         r
                     }
-                    None => element_load(aero, &wind, scale, &self.gather, &rest, &mut self.f_local[..m]),
+                    None => element_load(
+                        aero,
+                        Flow { wind: &wind, scale },
+                        &self.gather,
+                        &rest,
+                        &mut self.f_local[..m],
+                    ),
                 };
                 outcome.map_err(|err| EvalError {
                     message: format!("aerodynamic load of element {e}: {err}"),
