@@ -14,11 +14,11 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
         return Ok(());
     }
     let s = ModelSummary::of(&spec, &model);
-    println!("{}: valid", file.display());
+    out!("{}: valid", file.display());
     if !spec.title.is_empty() {
-        println!("title: {}", spec.title);
+        out!("title: {}", spec.title);
     }
-    println!(
+    out!(
         "model: {} spans, {} nodes, {} elements of type `{}` ({} per span), {} free DOF, {} supported nodes",
         s.spans.len(),
         s.nodes,
@@ -31,14 +31,24 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
     let ice = spec.load_case.ice.map_or("no ice".to_string(), |i| {
         format!("radial ice {:.1} mm at {:.0} kg/m³", i.thickness * 1e3, i.density)
     });
-    println!(
+    out!(
         "stringing at {:.1} °C; load case `{}`: {:.1} °C, {ice}",
-        spec.stringing_temperature, spec.load_case.name, spec.load_case.temperature
+        spec.stringing_temperature,
+        spec.load_case.name,
+        spec.load_case.temperature
     );
-    println!();
-    println!(
+    out!();
+    out!(
         "{:>4}  {:<10} {:<10} {:<12} {:>9} {:>8}  {:<22} {:>12} {:>10}",
-        "span", "from", "to", "conductor", "length m", "Δh m", "stringing target", "conductor kg", "ice kg"
+        "span",
+        "from",
+        "to",
+        "conductor",
+        "length m",
+        "Δh m",
+        "stringing target",
+        "conductor kg",
+        "ice kg"
     );
     for (i, l) in s.spans.iter().enumerate() {
         let target = match l.target {
@@ -46,7 +56,7 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
             StringingTarget::Sag(d) => format!("sag = {d:.3} m"),
             StringingTarget::CatenaryParameter(c) => format!("H/w = {c:.1} m"),
         };
-        println!(
+        out!(
             "{:>4}  {:<10} {:<10} {:<12} {:>9.2} {:>8.2}  {:<22} {:>12.1} {:>10.1}",
             i + 1,
             l.supports[0],

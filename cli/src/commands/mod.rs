@@ -1,5 +1,17 @@
 //! One file per command; this module holds what they share.
 
+/// `println!` that ends the program quietly when stdout is closed (e.g.
+/// `glaze screen FILE | head`) instead of panicking.
+macro_rules! out {
+    () => { $crate::commands::write_stdout(format_args!("\n")) };
+    ($($arg:tt)*) => { $crate::commands::write_stdout(format_args!("{}\n", format_args!($($arg)*))) };
+}
+
+/// `print!` with the same behaviour as [`out!`].
+macro_rules! out_part {
+    ($($arg:tt)*) => { $crate::commands::write_stdout(format_args!($($arg)*)) };
+}
+
 mod check;
 mod modes;
 mod run;
@@ -13,6 +25,16 @@ pub use screen::{run_screen, ScreenFormat};
 pub use static_cmd::run_static;
 
 use glaze_engine::{GlazeError, InputErrorKind};
+
+/// Writes to stdout; a closed pipe ends the program with exit code 0.
+pub fn write_stdout(args: std::fmt::Arguments<'_>) {
+    use std::io::Write;
+    if let Err(e) = std::io::stdout().write_fmt(args) {
+        if e.kind() == std::io::ErrorKind::BrokenPipe {
+            std::process::exit(0);
+        }
+    }
+}
 
 /// The caution every report carries.
 pub const CAUTION: &str =

@@ -90,7 +90,7 @@ pub fn run_modes(
     if quiet {
         return Ok(());
     }
-    println!(
+    out!(
         "{} natural modes of `{}` about the static state of `{}`: {} free DOF, {} eigen solver, \
          shift {:.3e} rad²/s², tangent asymmetry {:.1e} before symmetrising",
         modes.frequency_hz.len(),
@@ -101,14 +101,20 @@ pub fn run_modes(
         modes.shift,
         modes.stiffness_asymmetry
     );
-    println!();
-    println!(
+    out!();
+    out!(
         "{:>4}  {:>11} {:>10}  {:>8} {:>8} {:>8} {:>8}  label",
-        "mode", "f Hz", "T s", "vert %", "trans %", "long %", "tors %"
+        "mode",
+        "f Hz",
+        "T s",
+        "vert %",
+        "trans %",
+        "long %",
+        "tors %"
     );
     for i in 0..modes.frequency_hz.len() {
         let s = modes.energy_share[i];
-        println!(
+        out!(
             "{:>4}  {:>11.5} {:>10.4}  {:>8.1} {:>8.1} {:>8.1} {:>8.1}  {}",
             i + 1,
             modes.frequency_hz[i],
@@ -120,14 +126,14 @@ pub fn run_modes(
             modes.labels[i]
         );
     }
-    println!();
-    println!(
+    out!();
+    out!(
         "shares of modal kinetic energy: {} (horizontal, across the span), {}, {}",
         ENERGY_CLASSES[0..2].join(", "),
         ENERGY_CLASSES[2],
         ENERGY_CLASSES[3]
     );
-    println!("results written to {}", path.display());
-    println!("{CAUTION}");
+    out!("results written to {}", path.display());
+    out!("{CAUTION}");
     Ok(())
 }

@@ -92,7 +92,7 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
     let path = writer.finish(start.elapsed().as_secs_f64())?;
     if !quiet {
         let wall = start.elapsed().as_secs_f64();
-        println!(
+        out!(
             "{} s simulated in {wall:.1} s wall ({:.1}× real time): {} steps ({} cut back), {} Newton iterations ({:.2}/step), {} factorisations ({:.2}/step)",
             summary.time,
             summary.time / wall,
@@ -103,7 +103,7 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
             summary.factorisations,
             summary.factorisations as f64 / summary.steps.max(1) as f64
         );
-        println!(
+        out!(
             "Rayleigh damping a0 = {:.4e} 1/s, a1 = {:.4e} s; energy balance error {:.2e} of the largest term",
             summary.rayleigh.0, summary.rayleigh.1, summary.energy_balance_error
         );
@@ -114,10 +114,10 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
                 .enumerate()
                 .map(|(i, (f, xi))| format!("{}: {f:.3} Hz {:.2} %", i + 1, 100.0 * xi))
                 .collect();
-            println!("Rayleigh damping of the modes about the start state: {}", list.join(", "));
+            out!("Rayleigh damping of the modes about the start state: {}", list.join(", "));
         }
-        println!("{} records written to {}", summary.records, path.display());
-        println!("{CAUTION}");
+        out!("{} records written to {}", summary.records, path.display());
+        out!("{CAUTION}");
     }
     Ok(())
 }

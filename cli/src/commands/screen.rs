@@ -24,7 +24,7 @@ pub fn run_screen(file: &Path, format: ScreenFormat) -> Result<(), GlazeError> {
     match format {
         ScreenFormat::Table => print_table(file, &r),
         ScreenFormat::Csv => print_csv(&r),
-        ScreenFormat::Json => println!("{}", json(&r)),
+        ScreenFormat::Json => out!("{}", json(&r)),
     }
     Ok(())
 }
@@ -35,24 +35,24 @@ fn speed(u: Option<f64>) -> String {
 
 fn print_table(file: &Path, r: &ScreeningResult) {
     let speeds: Vec<String> = r.wind_speeds.iter().map(|u| format!("{u:.1}")).collect();
-    println!(
+    out!(
         "galloping-onset screening of {}: wind speeds {} m/s, structural damping ξ_s = {:.4}",
         file.display(),
         speeds.join(", "),
         r.structural_damping
     );
-    println!("ξ_a: quasi-steady aerodynamic damping ratio at each speed (negative feeds the mode)");
-    println!();
+    out!("ξ_a: quasi-steady aerodynamic damping ratio at each speed (negative feeds the mode)");
+    out!();
     let critical = r.critical();
-    print!("{:>4} {:>9}  {:<34} {:>9} {:>9}", "mode", "f Hz", "description", "onset m/s", "DH m/s");
+    out_part!("{:>4} {:>9}  {:<34} {:>9} {:>9}", "mode", "f Hz", "description", "onset m/s", "DH m/s");
     for u in &r.wind_speeds {
-        print!(" {:>9}", format!("ξ_a@{u:.0}"));
+        out_part!(" {:>9}", format!("ξ_a@{u:.0}"));
     }
-    println!();
+    out!();
     for (i, m) in r.modes.iter().enumerate() {
         let first = &m.at_speed[0];
         let mark = if critical.map(|c| c.0) == Some(i) { " ◀ lowest critical speed" } else { "" };
-        print!(
+        out_part!(
             "{:>4} {:>9.4}  {:<34} {:>9} {:>9}",
             m.mode,
             first.frequency_hz,
@@ -61,24 +61,24 @@ fn print_table(file: &Path, r: &ScreeningResult) {
             speed(m.den_hartog_speed)
         );
         for s in &m.at_speed {
-            print!(" {:>9.5}", s.aero_damping);
+            out_part!(" {:>9.5}", s.aero_damping);
         }
-        println!("{mark}");
+        out!("{mark}");
     }
-    println!();
+    out!();
     match critical {
-        Some((i, u)) => println!("lowest critical wind speed: {u:.2} m/s, mode {}", r.modes[i].mode),
-        None => println!("no mode reaches galloping onset in the speeds screened"),
+        Some((i, u)) => out!("lowest critical wind speed: {u:.2} m/s, mode {}", r.modes[i].mode),
+        None => out!("no mode reaches galloping onset in the speeds screened"),
     }
-    println!("onset: sweep crossing of ξ_s + ξ_a = 0; DH: Den Hartog estimate −ξ_s U/ξ_a from the first state with ξ_a < 0");
-    println!("{CAUTION}");
+    out!("onset: sweep crossing of ξ_s + ξ_a = 0; DH: Den Hartog estimate −ξ_s U/ξ_a from the first state with ξ_a < 0");
+    out!("{CAUTION}");
 }
 
 fn print_csv(r: &ScreeningResult) {
-    println!("mode,wind_speed_m_s,frequency_hz,aero_damping,den_hartog_speed_m_s,mac,label,onset_speed_m_s");
+    out!("mode,wind_speed_m_s,frequency_hz,aero_damping,den_hartog_speed_m_s,mac,label,onset_speed_m_s");
     for m in &r.modes {
         for (s, u) in m.at_speed.iter().zip(&r.wind_speeds) {
-            println!(
+            out!(
                 "{},{},{},{},{},{},\"{}\",{}",
                 m.mode,
                 u,

@@ -34,7 +34,7 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
         return Ok(());
     }
     let f = &result.report.factor_stats;
-    println!(
+    out!(
         "static equilibrium of `{}` ({}): {} load steps, {} Newton iterations, {} cut-backs; \
          {} symbolic and {} numeric factorisations ({} Cholesky, {} LU)",
         spec.load_case.name,
@@ -47,13 +47,20 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
         f.numeric_cholesky,
         f.numeric_lu
     );
-    println!();
-    println!(
+    out!();
+    out!(
         "{:>4}  {:>9} {:>8} {:>10} {:>12} {:>12} {:>12} {:>7}",
-        "span", "length m", "sag m", "sag at m", "H N", "T start N", "T end N", "% RTS"
+        "span",
+        "length m",
+        "sag m",
+        "sag at m",
+        "H N",
+        "T start N",
+        "T end N",
+        "% RTS"
     );
     for (i, s) in result.spans.iter().enumerate() {
-        println!(
+        out!(
             "{:>4}  {:>9.2} {:>8.3} {:>10.2} {:>12.1} {:>12.1} {:>12.1} {:>7.2}",
             i + 1,
             s.horizontal_length,
@@ -65,8 +72,8 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
             100.0 * s.strength_ratio
         );
     }
-    println!();
-    println!("results written to {}", path.display());
-    println!("{CAUTION}");
+    out!();
+    out!("results written to {}", path.display());
+    out!("{CAUTION}");
     Ok(())
 }

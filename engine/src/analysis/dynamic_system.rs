@@ -43,6 +43,7 @@ pub struct DynamicSystem<'m> {
     pub internal_force: Vec<f64>,
     /// Aerodynamic force at the last evaluation, on the equations.
     pub aero_force: Vec<f64>,
+    weight_norm: f64,
 }
 
 impl<'m> DynamicSystem<'m> {
@@ -75,6 +76,15 @@ impl<'m> DynamicSystem<'m> {
             k_local: vec![0.0; m * m],
             internal_force: vec![0.0; model.dofs.len()],
             aero_force: vec![0.0; model.dofs.len()],
+            weight_norm: model
+                .dofs
+                .all()
+                .iter()
+                .zip(&model.case_load)
+                .filter(|(eq, _)| eq.is_some())
+                .map(|(_, f)| f * f)
+                .sum::<f64>()
+                .sqrt(),
         };
         let mut mass = vec![0.0; s.pattern.nnz()];
         for e in 0..model.elements.len() {
@@ -289,6 +299,13 @@ impl SecondOrderSystem for DynamicSystem<'_> {
 
     fn commit(&mut self) {
         self.committed.clone_from(&self.trial);
+    }
+
+    /// The norm of the weight on the free DOF, in N: the force level
+    /// against which the residual of a step is judged (the internal and
+    /// external forces nearly cancel, so their difference is no scale).
+    fn force_scale(&self) -> f64 {
+        self.weight_norm
     }
 
     fn reject(&mut self) {
