@@ -81,7 +81,13 @@ pub fn element_load(
         table: &aero.table,
         diameter: aero.table.reference_diameter(),
         air_density: wind.wind.air_density,
-        characteristic_radius: wind.characteristic_radius,
+        // Nigol & Buchan (1981) take R of the order of the section's radius
+        // (from memory); the default applies it where a moment curve exists.
+        characteristic_radius: wind.characteristic_radius.unwrap_or(if aero.table.has_moment() {
+            0.5 * aero.table.reference_diameter()
+        } else {
+            0.0
+        }),
         // The switch is applied here so that the fixed orientation always counts.
         include_twist: true,
     };

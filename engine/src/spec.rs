@@ -90,8 +90,10 @@ pub struct WindSpec {
     pub wind: MeanWind,
     /// Whether the section twist enters the angle of attack.
     pub include_twist: bool,
-    /// Characteristic radius of the twist-rate term, in m.
-    pub characteristic_radius: f64,
+    /// Characteristic radius of the twist-rate term, in m; `None`: half the
+    /// reference diameter of sections whose table has a moment column, 0
+    /// otherwise.
+    pub characteristic_radius: Option<f64>,
 }
 
 /// Galloping-onset screening settings.

@@ -209,7 +209,8 @@ pub struct RawWind {
     pub air_density: Option<f64>,
     /// Whether the section twist enters the angle of attack (default true).
     pub include_twist: Option<bool>,
-    /// Characteristic radius of the twist-rate term, in m (default 0: off).
+    /// Characteristic radius of the twist-rate term, in m (default: half the
+    /// reference diameter of a table with a moment column, else 0).
     pub characteristic_radius: Option<f64>,
 }
 

@@ -360,8 +360,8 @@ pub(super) fn validate(
                     ));
                 }
             }
-            let radius = w.characteristic_radius.unwrap_or(0.0);
-            if !(radius.is_finite() && radius >= 0.0) {
+            let radius = w.characteristic_radius;
+            if let Some(radius) = radius.filter(|r| !(r.is_finite() && *r >= 0.0)) {
                 return Err(loc.error(
                     K::InvalidValue,
                     &key("characteristic_radius"),
