@@ -15,7 +15,7 @@
 //! `C_L = a1 α + a3 α³` with a1 < 0 (unstable about α = 0) and a3 > 0 (a
 //! stable limit cycle; the cubic model of Parkinson & Smith 1964, "The
 //! square prism as an aeroelastic non-linear oscillator", Q. J. Mech. Appl.
-//! Math. 17).
+//! Math. 17; from memory).
 //!
 //! - glaze: the force comes from `glaze_aero::section_load` on a
 //!   `CoefficientTable` tabulating the cubic every 0.25° over ±45°

@@ -387,6 +387,10 @@ impl Element for CorotationalBeam {
     /// Axial force N, torque T, and the end moments about local y and z as
     /// the conjugates of the local rotations (the moments the nodes apply
     /// to the element; a uniform bending moment M about z reads `[−M, M]`).
+    fn strain_energy(&self, ctx: &ElementContext, nodes: &[NodeState]) -> f64 {
+        self.local(ctx, &self.kinematics(nodes)).energy
+    }
+
     fn output(&self, ctx: &ElementContext, nodes: &[NodeState]) -> ElementOutput {
         let kin = self.kinematics(nodes);
         let loc = self.local(ctx, &kin);

@@ -89,6 +89,10 @@ pub trait Element: Send + Sync + std::fmt::Debug {
     /// Section results for the current state.
     fn output(&self, ctx: &ElementContext, nodes: &[NodeState]) -> ElementOutput;
 
+    /// Elastic strain energy stored in the current state, in J; its
+    /// gradient with respect to the DOF is the internal force.
+    fn strain_energy(&self, ctx: &ElementContext, nodes: &[NodeState]) -> f64;
+
     /// Unstretched (stress-free) length at the reference temperature, in m.
     fn unstretched_length(&self) -> f64;
 

@@ -16,6 +16,8 @@
 mod cable;
 mod corotational_beam;
 mod element;
+#[cfg(test)]
+mod energy_tests;
 mod error;
 mod link;
 pub mod so3;

@@ -99,6 +99,11 @@ impl Element for TorsionRestraint {
         ElementOutput { torque: self.stiffness * twist, ..ElementOutput::default() }
     }
 
+    fn strain_energy(&self, _ctx: &ElementContext, nodes: &[NodeState]) -> f64 {
+        let (_, twist, _) = self.moment(nodes);
+        0.5 * self.stiffness * twist * twist
+    }
+
     fn unstretched_length(&self) -> f64 {
         0.0
     }

@@ -112,6 +112,16 @@ impl Truss {
 
     /// Axial force and mechanical strain `(l − Lt)/Lt` (the kinematic
     /// strain, negative for a slack cable even though its force is zero).
+    /// Strain energy `½ EA (l − Lt)²/Lt` while it carries force, in J.
+    pub(crate) fn strain_energy(&self, ctx: &ElementContext, nodes: &[NodeState]) -> f64 {
+        let s = self.state(ctx, nodes);
+        if s.active {
+            0.5 * self.section.ea * (s.l - s.lt).powi(2) / s.lt
+        } else {
+            0.0
+        }
+    }
+
     pub(crate) fn output(&self, ctx: &ElementContext, nodes: &[NodeState]) -> ElementOutput {
         let s = self.state(ctx, nodes);
         ElementOutput { axial_force: s.force, axial_strain: (s.l - s.lt) / s.lt, ..ElementOutput::default() }
@@ -170,6 +180,10 @@ macro_rules! impl_truss_element {
             ) -> $crate::ElementOutput {
                 self.0.output(ctx, nodes)
             }
+            fn strain_energy(&self, ctx: &$crate::ElementContext, nodes: &[$crate::NodeState]) -> f64 {
+                self.0.strain_energy(ctx, nodes)
+            }
+
             fn unstretched_length(&self) -> f64 {
                 self.0.unstretched_length
             }

@@ -37,6 +37,8 @@ pub(super) struct LocalResponse {
     pub torque: f64,
     /// Mechanical axial strain ε (with bowing), dimensionless.
     pub strain: f64,
+    /// Strain energy U (module docs), in J.
+    pub energy: f64,
 }
 
 /// Local response for current length `l` (m), temperature-scaled
@@ -83,9 +85,11 @@ pub(super) fn response(
         * lt
         + g_kap * g_kap.transpose() * (lr * s.gj);
 
+    let mut energy = lt * (0.5 * s.ea * eps * eps + c * eps * kap) + lr * 0.5 * s.gj * kap * kap;
     for (c, ei) in [(1, s.ei_y), (2, s.ei_z)] {
         let (i, j) = (1 + c, 4 + c);
         let kb = ei / lr;
+        energy += 2.0 * kb * (t1[c] * t1[c] + t1[c] * t2[c] + t2[c] * t2[c]);
         f[i] += kb * (4.0 * t1[c] + 2.0 * t2[c]);
         f[j] += kb * (2.0 * t1[c] + 4.0 * t2[c]);
         k[(i, i)] += 4.0 * kb;
@@ -93,5 +97,5 @@ pub(super) fn response(
         k[(i, j)] += 2.0 * kb;
         k[(j, i)] += 2.0 * kb;
     }
-    LocalResponse { f, k, axial_force: n, torque, strain: eps }
+    LocalResponse { f, k, axial_force: n, torque, strain: eps, energy }
 }

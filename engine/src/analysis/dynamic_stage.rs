@@ -13,7 +13,7 @@ use crate::model::{self, Model, DOF_PER_NODE};
 use crate::registry::ElementRegistry;
 use crate::results::{HistoryWriter, Record, ResultsWriter};
 use crate::spec::{DampingSpec, DynamicsSpec, SchemeSpec, SectionSpec};
-use glaze_elements::{so3, ElementContext, NodeState};
+use glaze_elements::{ElementContext, NodeState};
 use glaze_solvers::{Integrator, IntegratorSettings, NewtonSettings, Scheme, SecondOrderSystem};
 use std::sync::atomic::{AtomicBool, Ordering};
 
@@ -166,7 +166,7 @@ fn settings(d: &DynamicsSpec) -> IntegratorSettings {
 
 /// Energy bookkeeping between steps (trapezoidal rule).
 struct Energy {
-    strain: f64,
+    initial_strain: Option<f64>,
     dissipated: f64,
     aero_work: f64,
     f_int: Vec<f64>,
@@ -199,7 +199,7 @@ fn integrate(
     let mut integ = Integrator::new(system, vec![0.0; n], 0.0, settings(d))
         .map_err(|e| GlazeError::Analysis { message: format!("the dynamic run could not start: {e}") })?;
     let mut energy = Energy {
-        strain: 0.0,
+        initial_strain: None,
         dissipated: 0.0,
         aero_work: 0.0,
         f_int: integ.system().internal_force.clone(),
@@ -220,8 +220,8 @@ fn integrate(
             break;
         }
         let t_k = (k as f64 * d.output_interval).min(d.duration);
-        integ.advance_to(t_k, |i, _| accumulate(model, i, &mut energy)).map_err(|e| {
-            GlazeError::Analysis { message: failure_report(spec, model, &integ_time(&energy), e) }
+        integ.advance_to(t_k, |i, _| accumulate(i, &mut energy)).map_err(|e| GlazeError::Analysis {
+            message: failure_report(spec, model, &integ_time(&energy), e),
         })?;
         history.push(record(model, start, &integ, &mut energy))?;
         let stats = integ.stats();
@@ -267,15 +267,12 @@ fn failure_report(
     )
 }
 
-/// After each accepted step: trapezoidal increments of the strain work,
-/// the Rayleigh dissipation and the aerodynamic work.
-fn accumulate(model: &Model, integ: &Integrator<DynamicSystem<'_>>, e: &mut Energy) {
+/// After each accepted step: trapezoidal increments of the Rayleigh
+/// dissipation and of the aerodynamic work (they have no potential).
+fn accumulate(integ: &Integrator<DynamicSystem<'_>>, e: &mut Energy) {
     let sys = integ.system();
     let v = integ.velocity();
     let h = integ.time() - e.time;
-    let dq = increment(model, &e.config, &sys.committed);
-    e.strain += 0.5
-        * dq.iter().zip(e.f_int.iter().zip(&sys.internal_force)).map(|(q, (a, b))| q * (a + b)).sum::<f64>();
     let mut cv = vec![0.0; v.len()];
     sys.pattern().mul_vec(sys.damping(), v, &mut cv);
     let mut cv0 = vec![0.0; v.len()];
@@ -291,21 +288,6 @@ fn accumulate(model: &Model, integ: &Integrator<DynamicSystem<'_>>, e: &mut Ener
     e.v.copy_from_slice(v);
     e.config.clone_from(&sys.committed);
     e.time = integ.time();
-}
-
-/// The equation-space increment from `a` to `b` (rotation vectors for rotations).
-fn increment(model: &Model, a: &Configuration, b: &Configuration) -> Vec<f64> {
-    let mut dq = vec![0.0; model.dofs.len()];
-    for node in 0..model.node_count() {
-        let theta = so3::log(&(b.rotations[node] * a.rotations[node].transpose()));
-        for dof in 0..DOF_PER_NODE {
-            if let Some(eq) = model.dofs.equation(node, dof) {
-                dq[eq] =
-                    if dof < 3 { b.positions[node][dof] - a.positions[node][dof] } else { theta[dof - 3] };
-            }
-        }
-    }
-    dq
 }
 
 fn record(
@@ -336,11 +318,31 @@ fn record(
             model.case_load[node * DOF_PER_NODE + dof] * (config.positions[node][dof] - e.origin[node][dof])
         })
         .sum::<f64>();
-    let total = kinetic + e.strain + gravity + e.dissipated - e.aero_work;
+    let ctx = ElementContext { temperature_change: model.temperature_change };
+    // Stored strain energy of the state itself (not a path integral), so a
+    // run that blows up shows in the balance.
+    let stored: f64 = model
+        .elements
+        .iter()
+        .map(|el| {
+            let nodes: Vec<NodeState> = el
+                .nodes()
+                .iter()
+                .map(|&n| NodeState {
+                    x0: model.nodes[n],
+                    x: config.positions[n],
+                    rotation: config.rotations[n],
+                })
+                .collect();
+            el.strain_energy(&ctx, &nodes)
+        })
+        .sum();
+    let strain = stored - *e.initial_strain.get_or_insert(stored);
+    let total = kinetic + strain + gravity + e.dissipated - e.aero_work;
     let initial = *e.initial_total.get_or_insert(total);
     let scale = kinetic
         .abs()
-        .max(e.strain.abs())
+        .max(strain.abs())
         .max(gravity.abs())
         .max(e.dissipated)
         .max(e.aero_work.abs())
@@ -348,7 +350,6 @@ fn record(
     if kinetic + e.dissipated + e.aero_work.abs() > 0.0 {
         e.worst = e.worst.max((total - initial).abs() / scale);
     }
-    let ctx = ElementContext { temperature_change: model.temperature_change };
     let axial_force = model
         .elements
         .iter()
@@ -374,7 +375,7 @@ fn record(
         velocity,
         axial_force,
         support_force: support_forces(model, config, sys, v, integ.time()),
-        energy: [kinetic, e.strain, gravity, e.dissipated, e.aero_work],
+        energy: [kinetic, strain, gravity, e.dissipated, e.aero_work],
     }
 }
 
