@@ -182,3 +182,20 @@ fn duration_must_be_positive_and_not_shorter_than_the_step() {
     expect_error("duration = -5.0\ntime_step = 0.01", "duration", InputErrorKind::InvalidValue);
     expect_error("duration = 0.001\ntime_step = 0.01", "time_step", InputErrorKind::InvalidValue);
 }
+
+#[test]
+fn a_parameter_of_the_other_scheme_is_refused() {
+    // A silently ignored α or ρ∞ would run another scheme than the one meant.
+    let m = expect_error(
+        "duration = 10.0\ntime_step = 0.01\nscheme = \"generalized_alpha\"\nalpha = -0.1",
+        "alpha",
+        InputErrorKind::InvalidValue,
+    );
+    assert!(m.contains("rho_inf"), "{m}");
+    let m = expect_error(
+        "duration = 10.0\ntime_step = 0.01\nscheme = \"hht\"\nrho_inf = 0.5",
+        "rho_inf",
+        InputErrorKind::InvalidValue,
+    );
+    assert!(m.contains("alpha"), "{m}");
+}

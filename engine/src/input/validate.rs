@@ -524,7 +524,22 @@ fn validate_dynamics(d: &super::schema::RawDynamics, loc: &Locator<'_>) -> Resul
         }
         None => dt,
     };
-    let scheme = match d.scheme.as_deref().unwrap_or("hht") {
+    let scheme_name = d.scheme.as_deref().unwrap_or("hht");
+    if scheme_name == "hht" && d.rho_inf.is_some() {
+        return Err(loc.error(
+            K::InvalidValue,
+            &key("rho_inf"),
+            "rho_inf belongs to scheme = \"generalized_alpha\"; HHT-α takes alpha",
+        ));
+    }
+    if scheme_name == "generalized_alpha" && d.alpha.is_some() {
+        return Err(loc.error(
+            K::InvalidValue,
+            &key("alpha"),
+            "alpha belongs to scheme = \"hht\"; generalised-α takes rho_inf",
+        ));
+    }
+    let scheme = match scheme_name {
         "hht" => {
             let a = d.alpha.unwrap_or(-0.05);
             if !(a.is_finite() && (-1.0 / 3.0 - 1e-12..=0.0).contains(&a)) {
