@@ -162,10 +162,13 @@ impl SparsityPattern {
         assert_eq!(x.len(), self.n, "x length");
         assert_eq!(y.len(), self.n, "y length");
         y.fill(0.0);
-        for j in 0..self.n {
-            let xj = x[j];
-            for k in self.col_ptr[j]..self.col_ptr[j + 1] {
-                y[self.row_idx[k]] += values[k] * xj;
+        for (j, &xj) in x.iter().enumerate() {
+            if xj == 0.0 {
+                continue;
+            }
+            let range = self.col_ptr[j]..self.col_ptr[j + 1];
+            for (&i, &a) in self.row_idx[range.clone()].iter().zip(&values[range]) {
+                y[i] += a * xj;
             }
         }
     }
