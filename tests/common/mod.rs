@@ -247,3 +247,97 @@ pub fn beam_chain(
 pub fn clamp(node: usize) -> Vec<usize> {
     (0..6).map(|k| 6 * node + k).collect()
 }
+
+/// Runs the reference script `tests/python/<script>` with `python3`, the
+/// JSON text `input` on its standard input, and returns its standard output
+/// (one JSON object). A missing Python, NumPy or SciPy, or a failing script,
+/// is a panic with the script's message, never a silent pass.
+pub fn python_json(script: &str, input: &str) -> String {
+    use std::io::Write;
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/python").join(script);
+    let mut child = std::process::Command::new("python3")
+        .arg(&path)
+        .stdin(std::process::Stdio::piped())
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap_or_else(|e| {
+            panic!("python3 is needed for the {script} reference ({e}); run scripts/setup.sh")
+        });
+    child.stdin.take().expect("stdin").write_all(input.as_bytes()).expect("write the JSON input");
+    let out = child.wait_with_output().expect("run python3");
+    let stdout = String::from_utf8_lossy(&out.stdout).into_owned();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        !stderr.contains("ModuleNotFoundError"),
+        "numpy and scipy are needed for the {script} reference; run scripts/setup.sh:\n{stderr}"
+    );
+    assert!(out.status.success(), "the {script} reference failed:\n{stdout}\n{stderr}\ninput: {input}");
+    stdout
+}
+
+/// A finite number as JSON text (full precision).
+pub fn json_num(x: f64) -> String {
+    assert!(x.is_finite(), "JSON has no {x}");
+    format!("{x:e}")
+}
+
+/// A list of finite numbers as a JSON array.
+pub fn json_array(xs: &[f64]) -> String {
+    format!("[{}]", xs.iter().map(|&x| json_num(x)).collect::<Vec<_>>().join(", "))
+}
+
+/// The text of the value at `"key":` in the JSON output of a reference
+/// script (the first occurrence; the scripts' output keys are unique and
+/// their values are numbers, booleans or arrays of numbers).
+fn json_value<'a>(json: &'a str, key: &str) -> &'a str {
+    let pattern = format!("\"{key}\"");
+    let mut from = 0;
+    while let Some(i) = json[from..].find(&pattern) {
+        let after = &json[from + i + pattern.len()..];
+        let trimmed = after.trim_start();
+        if let Some(rest) = trimmed.strip_prefix(':') {
+            let rest = rest.trim_start();
+            let end = if rest.starts_with('[') {
+                let mut depth = 0usize;
+                let mut end = rest.len();
+                for (k, ch) in rest.char_indices() {
+                    match ch {
+                        '[' => depth += 1,
+                        ']' => {
+                            depth -= 1;
+                            if depth == 0 {
+                                end = k + 1;
+                                break;
+                            }
+                        }
+                        _ => {}
+                    }
+                }
+                end
+            } else {
+                rest.find([',', '}']).unwrap_or(rest.len())
+            };
+            return rest[..end].trim();
+        }
+        from += i + pattern.len();
+    }
+    panic!("no key {key:?} in the reference output:\n{json}")
+}
+
+/// The number at `key` in a reference script's JSON output.
+pub fn json_f64(json: &str, key: &str) -> f64 {
+    let v = json_value(json, key);
+    v.parse().unwrap_or_else(|_| panic!("{key}: {v:?} is not a number"))
+}
+
+/// The numbers of the array at `key` (nested arrays flattened in order,
+/// e.g. `[[x, z], ...]` gives `x0, z0, x1, z1, ...`).
+pub fn json_f64s(json: &str, key: &str) -> Vec<f64> {
+    let v = json_value(json, key);
+    assert!(v.starts_with('['), "{key}: {v:?} is not an array");
+    v.split(|c: char| c == '[' || c == ']' || c == ',' || c.is_whitespace())
+        .filter(|t| !t.is_empty())
+        .map(|t| t.parse().unwrap_or_else(|_| panic!("{key}: {t:?} is not a number")))
+        .collect()
+}
