@@ -76,6 +76,11 @@ pub struct CorotationalBeam {
     reference_length: f64,
     /// Reference element frame `R0 = [e1 e2 e3]` (columns), dimensionless.
     frame0: Matrix3<f64>,
+    /// Rest rotation of each end's triad relative to `R0` (identity for a
+    /// straight element; see [`CorotationalBeam::with_end_tangents`]).
+    end_offset: [Matrix3<f64>; 2],
+    /// `log(end_offset)`: the local rotations at rest, rad.
+    rest_theta: [Vector3<f64>; 2],
     section: BeamSection,
 }
 
@@ -141,8 +146,55 @@ impl CorotationalBeam {
             unstretched_length,
             reference_length: chord.norm(),
             frame0: Matrix3::from_columns(&[e1, e2, e3]),
+            end_offset: [Matrix3::identity(); 2],
+            rest_theta: [Vector3::zeros(); 2],
             section,
         })
+    }
+
+    /// The same element, initially curved: at rest its ends are tangent to
+    /// `tangents` (global, any length) instead of to the chord. A conductor
+    /// meshed as a polygon of chords has a kink at every node; with the
+    /// nodal tangent taken as the bisector of the two chords, a rotation of
+    /// a node about that tangent is a pure twist of both elements. Without
+    /// it the rigid joint swings each chord's end sideways by half the kink
+    /// angle times the twist, which the bowing term charges at the tension
+    /// (`≈ N L/12 (κ L)²` per unit twist², thirty to fifty times the
+    /// conductor's own torsional stiffness in a sagging span meshed at
+    /// 10 m). Bending, torsion and bowing are measured from the rest
+    /// curvature; the bowing strain is invariant under a common twist of
+    /// both ends (it depends on the end slopes only through `2|θ̄1|² −
+    /// θ̄1·θ̄2 + 2|θ̄2|²` over both planes). Fails if a tangent is more than
+    /// 30° from the chord.
+    pub fn with_end_tangents(mut self, tangents: [Vector3<f64>; 2]) -> Result<Self, ElementError> {
+        let e1 = Vector3::x();
+        for (i, t) in tangents.iter().enumerate() {
+            let local = self.frame0.transpose() * t;
+            let n = local.norm();
+            if !(n.is_finite() && n > 0.0) {
+                return Err(ElementError::InvalidValue {
+                    kind: KIND,
+                    parameter: "end_tangent",
+                    value: n,
+                    expected: "a non-zero finite vector",
+                });
+            }
+            let local = local / n;
+            let axis = e1.cross(&local);
+            let angle = axis.norm().atan2(e1.dot(&local));
+            if angle > 30f64.to_radians() {
+                return Err(ElementError::InvalidValue {
+                    kind: KIND,
+                    parameter: "end_tangent",
+                    value: angle.to_degrees(),
+                    expected: "an end tangent within 30 degrees of the chord",
+                });
+            }
+            let v = if axis.norm() > 0.0 { axis * (angle / axis.norm()) } else { Vector3::zeros() };
+            self.end_offset[i] = so3::exp(&v);
+            self.rest_theta[i] = v;
+        }
+        Ok(self)
     }
 
     /// The section data.
@@ -170,7 +222,8 @@ impl CorotationalBeam {
         let r3 = r1.cross(&q).normalize();
         let r2 = r3.cross(&r1);
         let rr = Matrix3::from_columns(&[r1, r2, r3]);
-        let theta = [0, 1].map(|i| so3::log(&(rr.transpose() * nodes[i].rotation * self.frame0)));
+        let theta = [0, 1]
+            .map(|i| so3::log(&(rr.transpose() * nodes[i].rotation * self.frame0 * self.end_offset[i])));
         Kinematics { rr, l, theta, q: rr.transpose() * q, qi: qg.map(|v| rr.transpose() * v) }
     }
 
@@ -186,6 +239,7 @@ impl CorotationalBeam {
             self.reference_length,
             &kin.theta[0],
             &kin.theta[1],
+            &self.rest_theta,
         )
     }
 

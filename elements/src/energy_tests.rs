@@ -5,8 +5,8 @@
 
 use crate::test_util::{perturb, Lcg};
 use crate::{
-    BeamSection, Cable, CorotationalBeam, Element, ElementContext, Link, NodeState, TorsionRestraint,
-    TrussSection,
+    BeamSection, Cable, ClampJoint, ClampStiffness, CorotationalBeam, Element, ElementContext, Link,
+    NodeState, TorsionRestraint, TrussSection,
 };
 use nalgebra::Vector3;
 
@@ -16,17 +16,12 @@ fn check(element: &dyn Element, nodes: &[NodeState], scale: f64) {
     let mut f = vec![0.0; m];
     element.internal_force(&ctx, nodes, &mut f);
     let h = 1e-6;
-    for dof in 0..m {
+    for (dof, &fi) in f.iter().enumerate() {
         let up = element.strain_energy(&ctx, &perturb(nodes, dof, h));
         let down = element.strain_energy(&ctx, &perturb(nodes, dof, -h));
         let fd = (up - down) / (2.0 * h);
         // Central differences: O(h²) truncation plus round-off of U/h.
-        assert!(
-            (fd - f[dof]).abs() <= 1e-6 * scale,
-            "{} dof {dof}: dU = {fd}, f = {}",
-            element.kind(),
-            f[dof]
-        );
+        assert!((fd - fi).abs() <= 1e-6 * scale, "{} dof {dof}: dU = {fd}, f = {fi}", element.kind(),);
     }
 }
 
@@ -57,5 +52,7 @@ fn internal_force_is_the_energy_gradient() {
         let beam = CorotationalBeam::new([0, 1], x0, l0, Vector3::y(), section).unwrap();
         check(&beam, &nodes, 3.0e7 * 0.1);
         check(&TorsionRestraint::new(0, Vector3::new(1.0, 0.1, 0.0), 2.0e4).unwrap(), &nodes[..1], 2.0e4);
+        let clamp = ClampStiffness { translation: 3.0e4, twist: 2.0e4, bending: 90.0 };
+        check(&ClampJoint::new([0, 1], Vector3::new(1.0, 0.1, 0.0), clamp).unwrap(), &nodes, 3.0e4 * 5.0);
     }
 }

@@ -10,6 +10,7 @@
 
 pub mod aero_loads;
 pub mod analysis;
+pub mod devices;
 pub mod error;
 pub mod formfinding;
 pub mod input;

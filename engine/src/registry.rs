@@ -23,6 +23,10 @@ pub struct SegmentSpec<'a> {
     pub mass_per_length: f64,
     /// Mass polar moment of inertia per length including ice, in kg·m.
     pub polar_inertia_per_length: f64,
+    /// The conductor's tangent at each node (unit): the bisector of the
+    /// two chords meeting there, or the chord at an end. Element kinds with
+    /// rotations curve their ends to it (see `CorotationalBeam::with_end_tangents`).
+    pub end_tangents: [Vector3<f64>; 2],
 }
 
 /// A kind of element that can model a conductor segment.
@@ -57,6 +61,7 @@ impl ConductorElementKind for BeamKind {
             axial_torsion_coupling: 0.0,
         };
         CorotationalBeam::new(s.nodes, s.x0, s.unstretched_length, s.reference_y, section)
+            .and_then(|b| b.with_end_tangents(s.end_tangents))
             .map(|b| Box::new(b) as Box<dyn Element>)
             .map_err(|e| e.to_string())
     }
@@ -100,15 +105,16 @@ impl ConductorElementKind for LinkKind {
     }
 }
 
-/// The known element kinds.
+/// The known element kinds, and the device kinds of sections.
 pub struct ElementRegistry {
     kinds: Vec<Box<dyn ConductorElementKind>>,
+    devices: crate::devices::DeviceRegistry,
 }
 
 impl ElementRegistry {
     /// The kinds glaze ships.
     pub fn with_builtin() -> Self {
-        let mut r = Self { kinds: Vec::new() };
+        let mut r = Self { kinds: Vec::new(), devices: crate::devices::DeviceRegistry::with_builtin() };
         r.register(Box::new(BeamKind));
         r.register(Box::new(CableKind));
         r.register(Box::new(LinkKind));
@@ -129,5 +135,15 @@ impl ElementRegistry {
     /// Names of all kinds, in registration order.
     pub fn names(&self) -> Vec<&'static str> {
         self.kinds.iter().map(|k| k.name()).collect()
+    }
+
+    /// The device kinds.
+    pub fn devices(&self) -> &crate::devices::DeviceRegistry {
+        &self.devices
+    }
+
+    /// The device kinds, to register more.
+    pub fn devices_mut(&mut self) -> &mut crate::devices::DeviceRegistry {
+        &mut self.devices
     }
 }

@@ -71,8 +71,10 @@ pub struct LoadCase {
     pub name: String,
     /// Conductor temperature, in °C.
     pub temperature: f64,
-    /// Ice on every span.
+    /// Ice on the iced spans.
     pub ice: Option<RadialIce>,
+    /// Spans (0-based, route order) that carry `ice`; `None`: all.
+    pub iced_spans: Option<Vec<usize>>,
     /// Gravitational acceleration, in m/s².
     pub gravity: f64,
     /// Mean wind.
@@ -135,10 +137,13 @@ pub struct SectionSpec {
     pub supports: Vec<Support>,
     /// Spans.
     pub spans: Vec<SpanSpec>,
+    /// A tension section (towers, strings, phases, devices); `None` for a
+    /// row of spans between fixed `supports`.
+    pub section: Option<TensionSection>,
     /// Element kind name (registered).
     pub element_kind: String,
-    /// Elements per span.
-    pub elements_per_span: usize,
+    /// How finely each span is meshed.
+    pub mesh: MeshDensity,
     /// Stringing temperature, in °C.
     pub stringing_temperature: f64,
     /// The load case.
@@ -193,4 +198,178 @@ pub struct DynamicsSpec {
     pub damping: DampingSpec,
     /// `(mode, amplitude m)` of the initial perturbation.
     pub perturbation: Option<(usize, f64)>,
+}
+
+impl LoadCase {
+    /// The ice on span `span` (0-based), if any.
+    pub fn ice_on(&self, span: usize) -> Option<RadialIce> {
+        match &self.iced_spans {
+            Some(list) if !list.contains(&span) => None,
+            _ => self.ice,
+        }
+    }
+}
+
+/// How finely spans are meshed.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum MeshDensity {
+    /// The same number of elements in every span.
+    ElementsPerSpan(usize),
+    /// Elements no longer than this, in m.
+    ElementLength(f64),
+}
+
+impl MeshDensity {
+    /// Elements for a span of horizontal length `length` m (at least 2).
+    pub fn elements_for(&self, length: f64) -> usize {
+        match *self {
+            MeshDensity::ElementsPerSpan(n) => n,
+            MeshDensity::ElementLength(l) => ((length / l).ceil() as usize).max(2),
+        }
+    }
+}
+
+/// Kind of tower.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum TowerKind {
+    /// Tension tower at an end of the section: dead-end strings.
+    DeadEnd,
+    /// Suspension tower: strings hang from the arms and swing.
+    Suspension,
+}
+
+/// Kind of insulator string.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum InsulatorKind {
+    /// I-string hinged at the arm tip.
+    Suspension,
+    /// V-string: two legs from the arm, `half_angle` rad from vertical.
+    VString {
+        /// Half the angle between the legs, in rad.
+        half_angle: f64,
+    },
+    /// Dead-end string pulling along the line.
+    DeadEnd,
+}
+
+/// An insulator string type.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Insulator {
+    /// Name in the input.
+    pub name: String,
+    /// Kind.
+    pub kind: InsulatorKind,
+    /// Length hinge to yoke (V: vertical depth), in m.
+    pub length: f64,
+    /// Mass, in kg.
+    pub mass: f64,
+    /// Axial stiffness, in N.
+    pub axial_stiffness: f64,
+}
+
+/// A tower of a section.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Tower {
+    /// Name in the input.
+    pub name: String,
+    /// Chainage, in m.
+    pub chainage: f64,
+    /// Ground elevation, in m.
+    pub ground: f64,
+    /// Kind.
+    pub kind: TowerKind,
+    /// Index into [`TensionSection::insulators`] (phases only; earth wires clamp directly).
+    pub insulator: Option<usize>,
+    /// Per phase (index of [`TensionSection::phases`]): `[across, height above ground]`, in m.
+    pub attachments: Vec<[f64; 2]>,
+    /// Attachment stiffness `[along, across, vertical]`, in N/m; `None`: rigid.
+    pub stiffness: Option<[f64; 3]>,
+}
+
+/// Bundle geometry.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Bundle {
+    /// Subconductors: 1, 2, 3, 4 or 6.
+    pub count: usize,
+    /// Radius of the circle through the subconductor centres, in m.
+    pub radius: f64,
+    /// Angle of the first subconductor from horizontal (towards +across), in rad.
+    pub orientation: f64,
+}
+
+impl Bundle {
+    /// Offset of subconductor `k` from the bundle centre as `[across, up]`, in m.
+    pub fn offset(&self, k: usize) -> [f64; 2] {
+        if self.count == 1 {
+            return [0.0, 0.0];
+        }
+        let a = self.orientation + std::f64::consts::TAU * k as f64 / self.count as f64;
+        [self.radius * a.cos(), self.radius * a.sin()]
+    }
+}
+
+/// A phase or earth wire.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Phase {
+    /// Name in the input.
+    pub name: String,
+    /// Index into [`SectionSpec::conductors`].
+    pub conductor: usize,
+    /// Bundle geometry.
+    pub bundle: Bundle,
+    /// Earth wire (clamped at towers, no string).
+    pub earth_wire: bool,
+    /// Horizontal tension of each subconductor at stringing, in N.
+    pub horizontal_tension: f64,
+}
+
+/// Spacer kind.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum SpacerKind {
+    /// Arms next to rigid.
+    Rigid,
+    /// Arms of a given bending stiffness EI, in N·m².
+    Elastic(f64),
+}
+
+/// Spacers on every bundle of more than one subconductor.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SpacerSpec {
+    /// Kind.
+    pub kind: SpacerKind,
+    /// Per span (0-based), distances from its first tower, in m, ascending.
+    pub positions: Vec<Vec<f64>>,
+    /// Mass of one spacer, in kg.
+    pub mass: f64,
+}
+
+/// A tension section between two dead-ends.
+#[derive(Clone, Debug)]
+pub struct TensionSection {
+    /// Insulator types.
+    pub insulators: Vec<Insulator>,
+    /// Towers in chainage order; the first and last are dead-ends.
+    pub towers: Vec<Tower>,
+    /// Phases and earth wires.
+    pub phases: Vec<Phase>,
+    /// Ground profile `(chainage, elevation)`, ascending, towers included, in m.
+    pub ground_profile: Vec<(f64, f64)>,
+    /// Spacers (bundles only).
+    pub spacers: Option<SpacerSpec>,
+    /// Name of the modelled layout (`none` when no devices).
+    pub layout: String,
+    /// Devices of that layout, validated.
+    pub devices: Vec<crate::devices::PlacedDevice>,
+}
+
+impl TensionSection {
+    /// Number of spans.
+    pub fn span_count(&self) -> usize {
+        self.towers.len() - 1
+    }
+
+    /// Horizontal length of span `i` (0-based), in m.
+    pub fn span_length(&self, i: usize) -> f64 {
+        self.towers[i + 1].chainage - self.towers[i].chainage
+    }
 }

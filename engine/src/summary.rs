@@ -8,6 +8,10 @@ use crate::spec::{SectionSpec, StringingTarget};
 pub struct SpanLine {
     /// Support names at the two ends.
     pub supports: [String; 2],
+    /// Phase (and subconductor, as `A/2`) of a section; empty in a row.
+    pub wire: String,
+    /// Route span index, 0-based.
+    pub route_span: usize,
     /// Conductor type name.
     pub conductor: String,
     /// Horizontal length, in m.
@@ -40,21 +44,41 @@ pub struct ModelSummary {
 impl ModelSummary {
     /// Summarises `model`, built from `spec`.
     pub fn of(spec: &SectionSpec, model: &Model) -> Self {
-        let spans = spec
+        let spans = model
             .spans
             .iter()
-            .zip(&model.spans)
-            .map(|(s, m)| {
-                let c = &spec.conductors[s.conductor];
+            .map(|m| {
+                let c = &spec.conductors[m.conductor];
                 let l0 = m.stringing.unstretched_length;
+                let target = match (&spec.section, m.phase) {
+                    (Some(s), Some(p)) => StringingTarget::HorizontalTension(s.phases[p].horizontal_tension),
+                    _ => spec.spans[m.route_span].target,
+                };
+                let label = match (&spec.section, m.phase) {
+                    (Some(s), Some(p)) => {
+                        let phase = &s.phases[p];
+                        if phase.bundle.count > 1 {
+                            format!("{}/{}", phase.name, m.subconductor + 1)
+                        } else {
+                            phase.name.clone()
+                        }
+                    }
+                    _ => String::new(),
+                };
                 SpanLine {
-                    supports: [spec.supports[s.from].name.clone(), spec.supports[s.to].name.clone()],
+                    supports: m.end_names.clone(),
+                    wire: label,
+                    route_span: m.route_span,
                     conductor: c.name.clone(),
                     horizontal_length: m.horizontal_length,
                     height_difference: m.height_difference,
-                    target: s.target,
+                    target,
                     conductor_mass: c.mass_per_length * l0,
-                    ice_mass: spec.load_case.ice.map_or(0.0, |i| i.mass_per_length(c.diameter)) * l0,
+                    ice_mass: spec
+                        .load_case
+                        .ice_on(m.route_span)
+                        .map_or(0.0, |i| i.mass_per_length(c.diameter))
+                        * l0,
                 }
             })
             .collect();

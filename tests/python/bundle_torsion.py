@@ -69,7 +69,7 @@ Input
  "diameter": m (optional, only for the default j),
  "GJ": N m^2 (optional, each subconductor, default 0),
  "modes": how many frequencies (default 3),
- "pendulums": [{"M": kg, "a": m, "x": m, "J0": kg m^2 (optional)}] (optional),
+  "pendulums": [{"M": kg, "a": m (>= 0), "x": m, "J0": kg m^2 (optional)}] (optional),
  "pendulum_gravity": false (optional), "g": 9.80665 (optional),
  "fd_nodes": 4000 (optional)}
 
@@ -218,7 +218,7 @@ def run(data):
         pend = []
         for p in pendulums:
             M = positive(p, "M")
-            a = positive(p, "a")
+            a = positive(p, "a", allow_zero=True)  # 0: a point inertia J0 on the axis (e.g. a spacer)
             x = float(p["x"])
             if not 0.0 < x < L:
                 raise InputError("pendulum x must be inside the span")

@@ -117,7 +117,12 @@ Input:  {"towers": [{"x": m, "z": m, "string_length": m, "string_mass": kg,
          "continuation_steps": 10 (optional, see below)}
     The first and last towers must be dead ends. For a suspension tower
     (z, x) is the hinge of the string at the cross-arm; for a dead end it is
-    the cable attachment point (string_length, string_mass ignored).
+    the cable attachment point when its string_length is absent or 0, else
+    the hinge of a dead-end string: a rigid uniform rod like the suspension
+    strings, pointing into the section, on whose end the cable is clamped.
+    Its angle solves the same moment balance (in the stringing state too:
+    it lies along the conductor pull less half its own weight); output
+    "dead_end_angle_deg" gives it from the downward vertical, 0 when rigid.
 Output: {"H2": [N per span], "swing_deg": [deg per tower, 0 at dead ends],
          "string_bottom": [[x, z] per tower] (state 2; the attachment at dead
          ends), "support_reactions": [[Fx, Fz] per tower] (N, force the line
@@ -450,13 +455,17 @@ def run_section(data):
     dead = [bool(t.get("dead_end", False)) for t in towers]
     if not (dead[0] and dead[-1]):
         raise InputError("the first and last towers must be dead ends")
-    Ls = [0.0 if d else float(t["string_length"]) for t, d in zip(towers, dead)]
-    ms = [0.0 if d else float(t.get("string_mass", 0.0)) for t, d in zip(towers, dead)]
+    Ls = [float(t.get("string_length", 0.0)) if d else float(t["string_length"]) for t, d in zip(towers, dead)]
+    ms = [float(t.get("string_mass", 0.0)) for t in towers]
     for k in range(nt):
-        if not dead[k]:
+        if not dead[k] or Ls[k] > 0:
             require_positive(f"towers[{k}].string_length", Ls[k])
             if ms[k] < 0 or not math.isfinite(ms[k]):
                 raise InputError(f"towers[{k}].string_mass must be >= 0")
+        elif Ls[k] < 0 or not math.isfinite(Ls[k]):
+            raise InputError(f"towers[{k}].string_length must be >= 0")
+        else:
+            ms[k] = 0.0
     EA = per_span(data["EA"], ns, "EA")
     alpha = per_span(data["alpha"], ns, "alpha")
     w1 = per_span(data["w1"], ns, "w1")
@@ -471,7 +480,13 @@ def run_section(data):
     cg = float(data.get("string_cg_fraction", 0.5))
     basis = weight_basis(data)
     dt = t2 - t1
-    free = [k for k in range(nt) if not dead[k]]
+    free = [k for k in range(nt) if Ls[k] > 0]
+    # Angle of each string from the downward vertical in the stringing state:
+    # 0 for suspension strings, found below for dead-end strings.
+    phi1 = [0.0] * nt
+    for k in (0, nt - 1):
+        if Ls[k] > 0:
+            phi1[k] = 0.5 * math.pi if k == 0 else -0.5 * math.pi
 
     def supports(phi_free):
         pts = []
@@ -479,20 +494,38 @@ def run_section(data):
         for k, p in zip(free, phi_free):
             phi[k] = p
         for k in range(nt):
-            if dead[k]:
+            if Ls[k] == 0:
                 pts.append((xs[k], zs[k]))
             else:
                 pts.append((xs[k] + Ls[k] * math.sin(phi[k]), zs[k] - Ls[k] * math.cos(phi[k])))
         return pts, phi
 
-    # Stringing state: strings plumb, every span at H1.
-    pts0, _ = supports([0.0] * len(free))
-    S0_1 = []
-    for i in range(ns):
-        l = pts0[i + 1][0] - pts0[i][0]
-        h = pts0[i + 1][1] - pts0[i][1]
-        S0, _ = span_given_H(H1, l, h, w1[i], EA[i])
-        S0_1.append(S0)
+    def net_force(k, sp):
+        """(Fx, Fz) of the cables on support k; sp[i] = (H, V_A, V_B, ...)."""
+        Fx = (sp[k][0] if k < ns else 0.0) - (sp[k - 1][0] if k > 0 else 0.0)
+        Fz = (sp[k][1] if k < ns else 0.0) - (sp[k - 1][2] if k > 0 else 0.0)
+        return Fx, Fz
+
+    # Stringing state: suspension strings plumb, every span at H1; the
+    # dead-end strings by fixed-point iteration on their moment balance.
+    for _ in range(200):
+        pts0, _ = supports([phi1[k] for k in free])
+        S0_1, sp1 = [], []
+        for i in range(ns):
+            l = pts0[i + 1][0] - pts0[i][0]
+            h = pts0[i + 1][1] - pts0[i][1]
+            S0, VA = span_given_H(H1, l, h, w1[i], EA[i])
+            S0_1.append(S0)
+            sp1.append((H1, VA, VA + w1[i] * S0))
+        moved = 0.0
+        for k in (0, nt - 1):
+            if dead[k] and Ls[k] > 0:
+                Fx, Fz = net_force(k, sp1)
+                new = math.atan2(Fx, -(Fz - cg * ms[k] * g))
+                moved = max(moved, abs(new - phi1[k]))
+                phi1[k] = new
+        if moved < 1e-15:
+            break
     S0_2 = [S0 * (1.0 + a * dt) for S0, a in zip(S0_1, alpha)]
     wc2 = [w_state2(w, a, dt, basis) for w, a in zip(w2, alpha)]
 
@@ -522,8 +555,7 @@ def run_section(data):
             return np.full(len(free), 1e3)  # pushes hybr back
         r = []
         for k in free:
-            Fx = sp[k][0] - sp[k - 1][0]
-            Fz = sp[k][1] - sp[k - 1][2]
+            Fx, Fz = net_force(k, sp)
             p = phi[k]
             r.append((Fx * math.cos(p) + (Fz - cg * ms[k] * g) * math.sin(p)) / H1)
         return np.array(r)
@@ -536,7 +568,7 @@ def run_section(data):
     steps = int(data.get("continuation_steps", 10))
     if steps < 1:
         raise InputError("continuation_steps must be >= 1")
-    phi_free = np.zeros(len(free))
+    phi_free = np.array([phi1[k] for k in free])
     rmax = 0.0
     if free:
         for j in range(1, steps + 1):
@@ -550,7 +582,7 @@ def run_section(data):
         rmax = float(np.max(np.abs(residual(phi_free)))) * H1
         if not rmax <= 1e-10 * H1:
             raise ArithmeticError(f"section equilibrium not converged: residual {rmax:.3e} N ({sol.message})")
-        if np.max(np.abs(phi_free)) >= 0.5 * math.pi:
+        if any(abs(p) >= 0.5 * math.pi for k, p in zip(free, phi_free) if not dead[k]):
             raise ArithmeticError("a string swung past the horizontal: no physical equilibrium found")
     pts, phi, sp = spans_at(phi_free)
 
@@ -563,13 +595,13 @@ def run_section(data):
         if k < ns:  # left end of span k
             Fx += sp[k][0]
             Fz += sp[k][1]
-        if not dead[k]:
-            Fz -= ms[k] * g
+        Fz -= ms[k] * g
         reactions.append([Fx, Fz])
 
     return {
         "H2": [s[0] for s in sp],
-        "swing_deg": [math.degrees(p) for p in phi],
+        "swing_deg": [0.0 if dead[k] else math.degrees(p) for k, p in enumerate(phi)],
+        "dead_end_angle_deg": [math.degrees(p) if dead[k] else 0.0 for k, p in enumerate(phi)],
         "string_bottom": [[p[0], p[1]] for p in pts],
         "support_reactions": reactions,
         "S0_t1": S0_1,
@@ -677,7 +709,8 @@ def selftest():
 
     # (c) sections.
     def section(xs, zs, dead_mask, L=2.6, m=90.0):
-        return [{"x": x, "z": z, "string_length": L, "string_mass": m, "dead_end": d}
+        # Dead ends rigid here (string_length 0); dead-end strings are checked below.
+        return [{"x": x, "z": z, "string_length": 0.0 if d else L, "string_mass": m, "dead_end": d}
                 for x, z, d in zip(xs, zs, dead_mask)]
 
     xs = np.concatenate([[0.0], np.cumsum(spans)]).tolist()
@@ -800,6 +833,28 @@ def selftest():
     E0 = energy(phis)
     rises = all(energy([p + (1e-3 if j == k else 0.0) for j, p in enumerate(phis)]) > E0 for k in range(4))
     check("the solution is an energy minimum", rises)
+
+    # Dead-end strings (rigid rods hinged at the dead-end towers): in both
+    # states, the moment about the hinge of the cable's pull on the rod end
+    # and of the rod's weight at mid-length vanishes; the rod keeps its length.
+    de = section(xs, zs_level, dmask)
+    for k in (0, 5):
+        de[k].update({"string_length": 3.2, "string_mass": 120.0})
+    for label, extra in (("strung", {"t2": 15.0, "w1": w1, "w2": w1}),
+                         ("iced span 2", {"t2": -5.0, "w1": w1, "w2": [w1, wice, w1, w1, w1]})):
+        o = run({"towers": de, "EA": EA, "alpha": alpha, "H1": H1, "t1": 15.0, **extra})
+        worst = 0.0
+        for k, sgn in ((0, 1.0), (5, -1.0)):
+            bx, bz = o["string_bottom"][k]
+            dx, dz = bx - xs[k], bz - zs_level[k]
+            i = 0 if k == 0 else 4
+            # Pull of span i on the rod end: (+H, V_left) at a left end, (-H, V_right) at a right end.
+            Fx = sgn * o["H2"][i]
+            Fz = o["V_left"][i] if k == 0 else o["V_right"][i]
+            moment = dx * Fz - dz * Fx + 0.5 * dx * (-120.0 * g)
+            worst = max(worst, abs(moment) / 3.2, abs(math.hypot(dx, dz) - 3.2) * H1)
+        check(f"dead-end strings in moment balance, {label}", worst < 1e-8 * H1,
+              f"({worst:.1e} N; angles {o['dead_end_angle_deg'][0]:.3f}, {o['dead_end_angle_deg'][5]:.3f} deg)")
 
     print("selftest", "FAILED: " + ", ".join(failures) if failures else "passed")
     return 0 if not failures else 1

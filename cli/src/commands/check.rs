@@ -1,6 +1,6 @@
 //! `glaze check FILE`: validate and summarise.
 
-use glaze_engine::spec::StringingTarget;
+use glaze_engine::spec::{MeshDensity, StringingTarget};
 use glaze_engine::summary::ModelSummary;
 use glaze_engine::{input, model, ElementRegistry, GlazeError};
 use std::path::Path;
@@ -18,16 +18,33 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
     if !spec.title.is_empty() {
         out!("title: {}", spec.title);
     }
+    let density = match spec.mesh {
+        MeshDensity::ElementsPerSpan(n) => format!("{n} per span"),
+        MeshDensity::ElementLength(l) => format!("at most {l} m long"),
+    };
     out!(
-        "model: {} spans, {} nodes, {} elements of type `{}` ({} per span), {} free DOF, {} supported nodes",
+        "model: {} conductor spans, {} nodes, {} elements, conductors of type `{}` ({density}), {} free DOF, {} supported nodes",
         s.spans.len(),
         s.nodes,
         s.elements,
         spec.element_kind,
-        spec.elements_per_span,
         s.dofs,
         s.supports
     );
+    if let Some(section) = &spec.section {
+        out!(
+            "section: {} towers, {} spans, {} phases and earth wires, {} insulator strings, layout `{}` with {} devices",
+            section.towers.len(),
+            section.span_count(),
+            section.phases.len(),
+            model.strings.len(),
+            section.layout,
+            section.devices.len()
+        );
+        for d in &section.devices {
+            out!("  device {}: {}", d.key, d.kind);
+        }
+    }
     let ice = spec.load_case.ice.map_or("no ice".to_string(), |i| {
         format!("radial ice {:.1} mm at {:.0} kg/m³", i.thickness * 1e3, i.density)
     });
@@ -39,8 +56,9 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
     );
     out!();
     out!(
-        "{:>4}  {:<10} {:<10} {:<12} {:>9} {:>8}  {:<22} {:>12} {:>10}",
+        "{:>4}  {:<6} {:<10} {:<10} {:<12} {:>9} {:>8}  {:<22} {:>12} {:>10}",
         "span",
+        "wire",
         "from",
         "to",
         "conductor",
@@ -50,15 +68,16 @@ pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
         "conductor kg",
         "ice kg"
     );
-    for (i, l) in s.spans.iter().enumerate() {
+    for l in &s.spans {
         let target = match l.target {
             StringingTarget::HorizontalTension(h) => format!("H = {h:.0} N"),
             StringingTarget::Sag(d) => format!("sag = {d:.3} m"),
             StringingTarget::CatenaryParameter(c) => format!("H/w = {c:.1} m"),
         };
         out!(
-            "{:>4}  {:<10} {:<10} {:<12} {:>9.2} {:>8.2}  {:<22} {:>12.1} {:>10.1}",
-            i + 1,
+            "{:>4}  {:<6} {:<10} {:<10} {:<12} {:>9.2} {:>8.2}  {:<22} {:>12.1} {:>10.1}",
+            l.route_span + 1,
+            l.wire,
             l.supports[0],
             l.supports[1],
             l.conductor,

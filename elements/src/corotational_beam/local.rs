@@ -11,7 +11,9 @@
 //!      + Σ_{c=y,z} (2 EI_c / L)(θ̄1c² + θ̄1c θ̄2c + θ̄2c²)`
 //!
 //! with `ε = (l − Lt)/Lt + b`, `κ = (θ̄2x − θ̄1x)/L`, `Lt = L0 (1 + α ΔT)`
-//! and `L = |X2 − X1|`. The bowing strain
+//! and `L = |X2 − X1|`. In an initially curved element (rest rotations
+//! θ̄⁰1, θ̄⁰2) the bending and twist terms take `θ̄ − θ̄⁰` and the bowing
+//! strain is `b(θ̄) − b(θ̄⁰)`. The bowing strain
 //! `b = (1/30) Σ_c (2θ̄1c² − θ̄1c θ̄2c + 2θ̄2c²)` is the mean of `½ v'²` for
 //! the cubic (Hermite) deflection with end slopes θ̄1, θ̄2 (derived here:
 //! `∫₀¹ v'² dξ = (2θ1² − θ1θ2 + 2θ2²)/15`). It is the averaged "shallow
@@ -43,7 +45,7 @@ pub(super) struct LocalResponse {
 
 /// Local response for current length `l` (m), temperature-scaled
 /// unstretched length `lt` (m), reference chord `lr` (m) and local rotation
-/// vectors `t1`, `t2` (rad).
+/// vectors `t1`, `t2` (rad), measured from the rest rotations `rest` (rad).
 pub(super) fn response(
     s: &BeamSection,
     l: f64,
@@ -51,6 +53,7 @@ pub(super) fn response(
     lr: f64,
     t1: &Vector3<f64>,
     t2: &Vector3<f64>,
+    rest: &[Vector3<f64>; 2],
 ) -> LocalResponse {
     let mut g_eps = SVector::<f64, 7>::zeros();
     g_eps[0] = 1.0 / lt;
@@ -59,7 +62,8 @@ pub(super) fn response(
     if s.bowing {
         for c in 1..3 {
             let (a, b) = (t1[c], t2[c]);
-            bow += (2.0 * a * a - a * b + 2.0 * b * b) / 30.0;
+            let (a0, b0) = (rest[0][c], rest[1][c]);
+            bow += (2.0 * a * a - a * b + 2.0 * b * b - (2.0 * a0 * a0 - a0 * b0 + 2.0 * b0 * b0)) / 30.0;
             g_eps[1 + c] = (4.0 * a - b) / 30.0;
             g_eps[4 + c] = (4.0 * b - a) / 30.0;
             h_b[(1 + c, 1 + c)] = 4.0 / 30.0;
@@ -72,6 +76,8 @@ pub(super) fn response(
     g_kap[1] = -1.0 / lr;
     g_kap[4] = 1.0 / lr;
 
+    // Bending and twist from the rest state.
+    let (t1, t2) = (&(t1 - rest[0]), &(t2 - rest[1]));
     let eps = (l - lt) / lt + bow;
     let kap = (t2.x - t1.x) / lr;
     let c = s.axial_torsion_coupling;

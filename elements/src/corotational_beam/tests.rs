@@ -274,3 +274,96 @@ fn constructor_rejects_bad_input() {
         assert!(err.to_string().contains("beam element"), "{err}");
     }
 }
+
+/// An initially curved copy of `beam`: end tangents tilted from the chord
+/// by up to 0.1 rad.
+fn curved(rng: &mut Lcg, beam: CorotationalBeam) -> CorotationalBeam {
+    let e1 = beam.reference_frame().column(0).into_owned();
+    let tilt = |rng: &mut Lcg| (e1 + rng.vector(0.1).cross(&e1)).normalize();
+    let t = [tilt(rng), tilt(rng)];
+    beam.with_end_tangents(t).unwrap()
+}
+
+#[test]
+fn curved_element_tangent_matches_central_differences() {
+    let mut rng = Lcg::new(77);
+    for (bowing, coupling) in [(false, false), (true, false), (true, true)] {
+        for rot in [0.3, 1.5] {
+            for _ in 0..10 {
+                let (beam, nodes) = random_case(&mut rng, section(bowing, coupling), rot);
+                let beam = curved(&mut rng, beam);
+                let err = tangent_error(&beam, &ctx(), &nodes, 1e-6, beam.reference_length());
+                assert!(err < 1e-6, "bowing {bowing} coupling {coupling} rot {rot}: rel. error {err:e}");
+            }
+        }
+    }
+}
+
+#[test]
+fn curved_element_is_stress_free_at_rest_and_under_rigid_motion() {
+    let mut rng = Lcg::new(5);
+    for _ in 0..10 {
+        let x1 = rng.vector(3.0);
+        let len = rng.range(1.0, 3.0);
+        let x2 = x1 + rng.direction() * len;
+        let beam =
+            CorotationalBeam::new([0, 1], [x1, x2], len, rng.direction(), section(true, true)).unwrap();
+        let beam = curved(&mut rng, beam);
+        let rest = vec![NodeState::at_rest(x1), NodeState::at_rest(x2)];
+        let moved = rigid_motion(&rest, &rng.rotation(PI), &rng.vector(4.0));
+        for nodes in [rest, moved] {
+            let f = force(&beam, &ElementContext::default(), &nodes);
+            assert!(norm(&f) < 1e-10, "{f:?}");
+        }
+    }
+}
+
+#[test]
+fn twisting_a_kinked_chain_about_its_nodal_tangents_costs_only_torsion() {
+    // Three nodes of a polygon with a kink of 0.05 rad at the middle node,
+    // nodal tangents the bisectors, both elements with bowing under tension.
+    // Twisting all nodes by φ about their own tangents changes no shape, so
+    // the only energy is the curved-rod bending change (EI terms, O(EI α² φ²)),
+    // far below what the straight elements' rigid joints would charge at the
+    // tension (N L/12 α² φ² per element, see with_end_tangents).
+    let alpha: f64 = 0.05;
+    let len = 10.0;
+    let x = [
+        Vector3::zeros(),
+        Vector3::new(len, 0.0, 0.0),
+        Vector3::new(len + len * alpha.cos(), 0.0, len * alpha.sin()),
+    ];
+    let chord = [x[1] - x[0], x[2] - x[1]].map(|d| d.normalize());
+    let tangent = [chord[0], (chord[0] + chord[1]).normalize(), chord[1]];
+    let s = BeamSection { ea: 3.0e7, ei_y: 44.0, ei_z: 44.0, gj: 35.0, ..section(true, false) };
+    let lt = 0.999 * len; // strained: N ≈ 3e4 N
+    let build = |i: usize, curved_ends: bool| {
+        let b = CorotationalBeam::new([i, i + 1], [x[i], x[i + 1]], lt, Vector3::y(), s).unwrap();
+        if curved_ends {
+            b.with_end_tangents([tangent[i], tangent[i + 1]]).unwrap()
+        } else {
+            b
+        }
+    };
+    let c = ElementContext::default();
+    let phi = 0.1;
+    for (curved_ends, bound) in [(true, 2.0 * 44.0 / len * (alpha * phi).powi(2)), (false, f64::INFINITY)] {
+        let mut extra = 0.0;
+        for i in 0..2 {
+            let b = build(i, curved_ends);
+            let rest: Vec<NodeState> = (i..i + 2).map(|j| NodeState::at_rest(x[j])).collect();
+            let twisted: Vec<NodeState> = (i..i + 2)
+                .map(|j| NodeState { rotation: so3::exp(&(tangent[j] * phi)), ..NodeState::at_rest(x[j]) })
+                .collect();
+            extra += b.strain_energy(&c, &twisted) - b.strain_energy(&c, &rest);
+        }
+        let n = 3.0e7 * (len / lt - 1.0);
+        let rigid_joint = 2.0 * n * len / 12.0 * (alpha * phi / 2.0).powi(2) * 4.0 / 4.0;
+        if curved_ends {
+            assert!(extra.abs() <= bound, "curved: {extra} J above the EI bound {bound} J");
+        } else {
+            // The straight elements charge the tension for it (order N L α² φ²).
+            assert!(extra > 0.1 * rigid_joint, "straight: {extra} J vs estimate {rigid_joint} J");
+        }
+    }
+}

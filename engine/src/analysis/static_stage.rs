@@ -82,7 +82,7 @@ pub fn run_static(spec: &SectionSpec, model: &Model) -> Result<StaticResult, Inp
     }
 
     let ctx = system.context(1.0);
-    let element_output = model
+    let element_output: Vec<glaze_elements::ElementOutput> = model
         .elements
         .iter()
         .map(|e| {
@@ -109,7 +109,23 @@ pub fn run_static(spec: &SectionSpec, model: &Model) -> Result<StaticResult, Inp
             let positions: Vec<_> = span.nodes.iter().map(|&n| system.config.positions[n]).collect();
             let a = positions[0];
             let b = positions[positions.len() - 1];
-            let ends = [force_at(span.nodes[0]), force_at(span.nodes[span.nodes.len() - 1])];
+            // A row's spans end on supports: the reaction is the end force. A
+            // section's spans end on clamps shared with other spans: the end
+            // force is the tension in the end element.
+            let last = span.nodes.len() - 1;
+            let ends = if span.phase.is_none() {
+                [force_at(span.nodes[0]), force_at(span.nodes[last])]
+            } else {
+                let pull = |e: usize, from: usize, to: usize| -> [f64; 3] {
+                    let n: &glaze_elements::ElementOutput = &element_output[e];
+                    let d = (system.config.positions[to] - system.config.positions[from]).normalize();
+                    std::array::from_fn(|k| n.axial_force * d[k])
+                };
+                [
+                    pull(span.elements.start, span.nodes[0], span.nodes[1]),
+                    pull(span.elements.end - 1, span.nodes[last], span.nodes[last - 1]),
+                ]
+            };
             let tension = ends.map(|f| (f[0] * f[0] + f[1] * f[1] + f[2] * f[2]).sqrt());
             let horizontal = ends.map(|f| f[0].hypot(f[1]));
             let (sag, sag_position) = sag_of(span.direction, &positions);

@@ -4,5 +4,5 @@
 pub mod discrete_chain;
 pub mod elastic_catenary;
 
-pub use discrete_chain::DiscreteChain;
+pub use discrete_chain::{ChainLayout, DiscreteChain};
 pub use elastic_catenary::{Catenary, CatenaryError, CatenarySpan};

@@ -5,6 +5,7 @@
 pub mod locate;
 pub mod schema;
 mod validate;
+mod validate_section;
 
 pub(crate) use validate::round_section;
 

@@ -18,10 +18,32 @@ pub struct RawInput {
     pub glaze: RawHeader,
     /// Conductor types by name.
     pub conductors: BTreeMap<String, RawConductor>,
-    /// Support points (attachment points of the conductor), in route order.
+    /// Support points of a row of spans (attachment points of the
+    /// conductor), in route order; a row gives `supports` and `spans`, a
+    /// tension section gives `towers` and `phases` instead.
+    #[serde(default)]
     pub supports: Vec<RawSupport>,
-    /// Spans between supports.
+    /// Spans between supports of a row.
+    #[serde(default)]
     pub spans: Vec<RawSpan>,
+    /// Insulator string types of a section, by name.
+    #[serde(default)]
+    pub insulators: BTreeMap<String, RawInsulator>,
+    /// Towers of a section, in chainage order.
+    #[serde(default)]
+    pub towers: Vec<RawTower>,
+    /// Route data of a section (ground profile).
+    pub route: Option<RawRoute>,
+    /// Phases and earth wires of a section.
+    #[serde(default)]
+    pub phases: Vec<RawPhase>,
+    /// Spacers on the bundles of a section.
+    pub spacers: Option<RawSpacers>,
+    /// Section settings (the layout of devices to model).
+    pub section: Option<RawSectionSettings>,
+    /// Named device layouts of a section.
+    #[serde(default)]
+    pub layouts: BTreeMap<String, RawLayout>,
     /// How each span is meshed.
     pub mesh: RawMesh,
     /// The state in which the stringing targets hold.
@@ -160,8 +182,10 @@ pub struct RawMesh {
     /// Element kind from the registry (`beam`, `cable`, `link`).
     #[serde(rename = "type")]
     pub kind: String,
-    /// Elements per span (at least 2).
-    pub elements_per_span: usize,
+    /// Elements per span (at least 2); a row gives this or `element_length`.
+    pub elements_per_span: Option<usize>,
+    /// Largest element length along a span, in m (sections, or rows).
+    pub element_length: Option<f64>,
 }
 
 /// `[stringing]`: the stringing condition (bare conductor, no wind).
@@ -183,6 +207,8 @@ pub struct RawLoadCase {
     pub temperature: f64,
     /// Radial ice on every span (none when absent).
     pub ice: Option<RawIce>,
+    /// Spans (1-based, in route order) that carry the ice; default all.
+    pub iced_spans: Option<Vec<usize>>,
     /// Gravitational acceleration, in m/s² (default 9.80665, standard gravity).
     pub gravity: Option<f64>,
     /// Mean wind (none when absent).
@@ -256,4 +282,127 @@ pub struct RawSolver {
     pub initial_load_step: Option<f64>,
     /// Smallest load step before giving up (default 1e-4).
     pub min_load_step: Option<f64>,
+}
+
+/// `[insulators.NAME]`: an insulator string type.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawInsulator {
+    /// `suspension` (I-string hinged at the arm), `v_string` (two legs) or `dead_end`.
+    pub kind: String,
+    /// Length from the tower hinge to the yoke, in m (for a V-string, the
+    /// vertical distance from the arm to the yoke).
+    pub length: f64,
+    /// Mass of the string (both legs of a V), in kg.
+    pub mass: f64,
+    /// Axial stiffness of the string, in N (default 1e8: next to rigid).
+    pub axial_stiffness: Option<f64>,
+    /// Half the angle between the legs of a V-string, in degrees.
+    pub half_angle: Option<f64>,
+}
+
+/// `[[towers]]`: a tower of a section.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawTower {
+    /// Unique name.
+    pub name: String,
+    /// Position along the route, in m.
+    pub chainage: f64,
+    /// Ground elevation at the tower, in m.
+    pub ground: f64,
+    /// `dead_end` or `suspension`.
+    pub kind: String,
+    /// Name of the insulator string type used by the phases at this tower.
+    pub insulator: Option<String>,
+    /// Per phase or earth wire name: `[across, height above ground]`, in m.
+    pub attachments: BTreeMap<String, [f64; 2]>,
+    /// Translational stiffness of each attachment point `[along, across, vertical]`,
+    /// in N/m (tower flexibility); default rigid.
+    pub stiffness: Option<[f64; 3]>,
+    /// Change of route direction at this tower, in degrees (positive turning left).
+    pub line_angle: Option<f64>,
+}
+
+/// `[route]`: ground along the section.
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawRoute {
+    /// `[chainage, elevation]` points, in m, between the towers.
+    #[serde(default)]
+    pub ground_profile: Vec<[f64; 2]>,
+}
+
+/// `[[phases]]`: a phase (bundle of subconductors) or an earth wire.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawPhase {
+    /// Unique name, used as the key of the towers' `attachments`.
+    pub name: String,
+    /// Conductor type of every subconductor.
+    pub conductor: String,
+    /// Bundle geometry (default a single conductor).
+    pub bundle: Option<RawBundle>,
+    /// An earth wire: clamped at the towers, no insulator string.
+    #[serde(default)]
+    pub earth_wire: bool,
+    /// Horizontal tension of each subconductor at stringing, in N (one
+    /// value for all spans: the ruling-span method).
+    pub horizontal_tension: f64,
+}
+
+/// A bundle of subconductors.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawBundle {
+    /// Subconductors: 1, 2, 3, 4 or 6.
+    pub count: usize,
+    /// For a twin, the distance between subconductors; otherwise the
+    /// diameter of the circle through their centres, in m.
+    pub spacing: Option<f64>,
+    /// Angle of the first subconductor from horizontal, in degrees (default 0).
+    pub orientation: Option<f64>,
+}
+
+/// `[spacers]`: spacers on every bundle.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSpacers {
+    /// `rigid` (default) or `elastic`.
+    pub kind: Option<String>,
+    /// Largest distance between spacers (and from a tower to the first), in m.
+    pub max_subspan: Option<f64>,
+    /// Explicit positions: per span (1-based) the distances from its first tower, in m.
+    pub positions: Option<Vec<RawSpacerSpan>>,
+    /// Mass of one spacer, in kg.
+    pub mass: f64,
+    /// Bending stiffness EI of the arms of an `elastic` spacer, in N·m².
+    pub arm_bending_stiffness: Option<f64>,
+}
+
+/// Spacer positions in one span.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSpacerSpan {
+    /// Span number, 1-based.
+    pub span: usize,
+    /// Distances from the span's first tower, in m.
+    pub distances: Vec<f64>,
+}
+
+/// `[section]`: settings of a section.
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSectionSettings {
+    /// Name of the layout in `[layouts]` to model, or `none`.
+    pub layout: Option<String>,
+}
+
+/// `[layouts.NAME]`: a set of devices.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawLayout {
+    /// Devices, each a table with a `type` and the parameters of that kind.
+    #[serde(default)]
+    pub devices: Vec<toml::Table>,
 }

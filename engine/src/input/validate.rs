@@ -6,8 +6,8 @@ use super::Locator;
 use crate::error::{InputError, InputErrorKind as K};
 use crate::registry::ElementRegistry;
 use crate::spec::{
-    Conductor, DampingSpec, DynamicsSpec, LoadCase, SchemeSpec, ScreeningSpec, SectionSpec, SolverSpec,
-    SpanSpec, StringingTarget, Support, WindSpec,
+    Conductor, DampingSpec, DynamicsSpec, LoadCase, MeshDensity, SchemeSpec, ScreeningSpec, SectionSpec,
+    SolverSpec, SpanSpec, StringingTarget, Support, WindSpec,
 };
 use glaze_aero::ice::GLAZE_ICE_DENSITY;
 use glaze_aero::{CoefficientTable, MeanWind, RadialIce, TableOptions, WindProfile, ISA_AIR_DENSITY};
@@ -128,115 +128,137 @@ pub(super) fn validate(
         ));
     }
 
-    let mut supports = Vec::new();
-    let mut support_index = BTreeMap::new();
-    for (i, s) in raw.supports.iter().enumerate() {
-        let key = format!("supports[{i}]");
-        if s.name.trim().is_empty() {
-            return Err(loc.error(
-                K::InvalidValue,
-                &format!("{key}.name"),
-                "a support needs a non-empty name",
-            ));
+    let is_section = !raw.towers.is_empty() || !raw.phases.is_empty();
+    let section = if is_section {
+        Some(super::validate_section::validate_section(&raw, loc, registry, &conductors, &conductor_index)?)
+    } else {
+        None
+    };
+    let (supports, spans) = if is_section {
+        (Vec::new(), Vec::new())
+    } else {
+        let mut supports = Vec::new();
+        let mut support_index = BTreeMap::new();
+        for (i, s) in raw.supports.iter().enumerate() {
+            let key = format!("supports[{i}]");
+            if s.name.trim().is_empty() {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &format!("{key}.name"),
+                    "a support needs a non-empty name",
+                ));
+            }
+            if support_index.insert(s.name.clone(), i).is_some() {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &format!("{key}.name"),
+                    format!("support name `{}` is used twice", s.name),
+                ));
+            }
+            if s.position.iter().any(|v| !v.is_finite()) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &format!("{key}.position"),
+                    "coordinates must be finite numbers in m",
+                ));
+            }
+            supports.push(Support { name: s.name.clone(), position: Vector3::from(s.position) });
         }
-        if support_index.insert(s.name.clone(), i).is_some() {
-            return Err(loc.error(
-                K::InvalidValue,
-                &format!("{key}.name"),
-                format!("support name `{}` is used twice", s.name),
-            ));
+        if supports.len() < 2 {
+            return Err(loc.error(K::MissingKey, "supports", "a section needs at least two [[supports]]"));
         }
-        if s.position.iter().any(|v| !v.is_finite()) {
-            return Err(loc.error(
-                K::InvalidValue,
-                &format!("{key}.position"),
-                "coordinates must be finite numbers in m",
-            ));
-        }
-        supports.push(Support { name: s.name.clone(), position: Vector3::from(s.position) });
-    }
-    if supports.len() < 2 {
-        return Err(loc.error(K::MissingKey, "supports", "a section needs at least two [[supports]]"));
-    }
 
-    let mut spans = Vec::new();
-    for (i, s) in raw.spans.iter().enumerate() {
-        let key = |field: &str| format!("spans[{i}].{field}");
-        let find = |field: &str, name: &str| {
-            support_index.get(name).copied().ok_or_else(|| {
-                let known: Vec<&str> = supports.iter().map(|s| s.name.as_str()).collect();
+        let mut spans = Vec::new();
+        for (i, s) in raw.spans.iter().enumerate() {
+            let key = |field: &str| format!("spans[{i}].{field}");
+            let find = |field: &str, name: &str| {
+                support_index.get(name).copied().ok_or_else(|| {
+                    let known: Vec<&str> = supports.iter().map(|s| s.name.as_str()).collect();
+                    loc.error(
+                        K::UnknownName,
+                        &key(field),
+                        format!("no support named `{name}`; known supports: {}", known.join(", ")),
+                    )
+                })
+            };
+            let from = find("from", &s.from)?;
+            let to = find("to", &s.to)?;
+            let conductor = *conductor_index.get(&s.conductor).ok_or_else(|| {
+                let known: Vec<&str> = conductors.iter().map(|c| c.name.as_str()).collect();
                 loc.error(
                     K::UnknownName,
-                    &key(field),
-                    format!("no support named `{name}`; known supports: {}", known.join(", ")),
+                    &key("conductor"),
+                    format!("no conductor named `{}`; known conductors: {}", s.conductor, known.join(", ")),
                 )
-            })
-        };
-        let from = find("from", &s.from)?;
-        let to = find("to", &s.to)?;
-        let conductor = *conductor_index.get(&s.conductor).ok_or_else(|| {
-            let known: Vec<&str> = conductors.iter().map(|c| c.name.as_str()).collect();
-            loc.error(
-                K::UnknownName,
-                &key("conductor"),
-                format!("no conductor named `{}`; known conductors: {}", s.conductor, known.join(", ")),
-            )
-        })?;
-        let d = supports[to].position - supports[from].position;
-        let horizontal = d.x.hypot(d.y);
-        if horizontal <= 1e-3 || horizontal.is_nan() {
+            })?;
+            let d = supports[to].position - supports[from].position;
+            let horizontal = d.x.hypot(d.y);
+            if horizontal <= 1e-3 || horizontal.is_nan() {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &key("to"),
+                    format!(
+                        "span from `{}` to `{}` has a horizontal length of {horizontal} m; it must be positive",
+                        s.from, s.to
+                    ),
+                ));
+            }
+            let rts = conductors[conductor].rated_strength;
+            let target = match (s.horizontal_tension, s.sag, s.catenary_parameter) {
+                (Some(h), None, None) => {
+                    let h = positive(loc, &key("horizontal_tension"), h, "N")?;
+                    if h >= rts {
+                        return Err(loc.error(
+                            K::Impossible,
+                            &key("horizontal_tension"),
+                            format!("{h} N is not below the rated strength {rts} N of `{}`", s.conductor),
+                        ));
+                    }
+                    StringingTarget::HorizontalTension(h)
+                }
+                (None, Some(d), None) => {
+                    let d = positive(loc, &key("sag"), d, "m")?;
+                    if d >= horizontal {
+                        return Err(loc.error(K::Impossible, &key("sag"), format!("a sag of {d} m is not less than the span length {horizontal:.3} m; no strung span hangs like that")));
+                    }
+                    StringingTarget::Sag(d)
+                }
+                (None, None, Some(c)) => {
+                    StringingTarget::CatenaryParameter(positive(loc, &key("catenary_parameter"), c, "m")?)
+                }
+                (None, None, None) => {
+                    return Err(loc.error(
+                        K::MissingKey,
+                        &format!("spans[{i}]"),
+                        "give one stringing target: horizontal_tension, sag or catenary_parameter",
+                    ))
+                }
+                _ => {
+                    return Err(loc.error(
+                        K::InvalidValue,
+                        &format!("spans[{i}]"),
+                        "give only one of horizontal_tension, sag and catenary_parameter",
+                    ))
+                }
+            };
+            spans.push(SpanSpec { from, to, conductor, target });
+        }
+        if spans.is_empty() {
+            return Err(loc.error(K::MissingKey, "spans", "a section needs at least one [[spans]]"));
+        }
+        if let Some(i) = (0..supports.len()).find(|&i| !spans.iter().any(|s| s.from == i || s.to == i)) {
             return Err(loc.error(
                 K::InvalidValue,
-                &key("to"),
+                &format!("supports[{i}].name"),
                 format!(
-                    "span from `{}` to `{}` has a horizontal length of {horizontal} m; it must be positive",
-                    s.from, s.to
+                    "support `{}` is referenced by no span; remove it or add a [[spans]] to it",
+                    supports[i].name
                 ),
             ));
         }
-        let rts = conductors[conductor].rated_strength;
-        let target = match (s.horizontal_tension, s.sag, s.catenary_parameter) {
-            (Some(h), None, None) => {
-                let h = positive(loc, &key("horizontal_tension"), h, "N")?;
-                if h >= rts {
-                    return Err(loc.error(
-                        K::Impossible,
-                        &key("horizontal_tension"),
-                        format!("{h} N is not below the rated strength {rts} N of `{}`", s.conductor),
-                    ));
-                }
-                StringingTarget::HorizontalTension(h)
-            }
-            (None, Some(d), None) => {
-                let d = positive(loc, &key("sag"), d, "m")?;
-                if d >= horizontal {
-                    return Err(loc.error(K::Impossible, &key("sag"), format!("a sag of {d} m is not less than the span length {horizontal:.3} m; no strung span hangs like that")));
-                }
-                StringingTarget::Sag(d)
-            }
-            (None, None, Some(c)) => {
-                StringingTarget::CatenaryParameter(positive(loc, &key("catenary_parameter"), c, "m")?)
-            }
-            (None, None, None) => {
-                return Err(loc.error(
-                    K::MissingKey,
-                    &format!("spans[{i}]"),
-                    "give one stringing target: horizontal_tension, sag or catenary_parameter",
-                ))
-            }
-            _ => {
-                return Err(loc.error(
-                    K::InvalidValue,
-                    &format!("spans[{i}]"),
-                    "give only one of horizontal_tension, sag and catenary_parameter",
-                ))
-            }
-        };
-        spans.push(SpanSpec { from, to, conductor, target });
-    }
-    if spans.is_empty() {
-        return Err(loc.error(K::MissingKey, "spans", "a section needs at least one [[spans]]"));
-    }
+        (supports, spans)
+    };
+    let span_count = section.as_ref().map_or(spans.len(), |s| s.span_count());
 
     if registry.get(&raw.mesh.kind).is_none() {
         return Err(loc.error(
@@ -245,14 +267,56 @@ pub(super) fn validate(
             format!("unknown element type `{}`; known types: {}", raw.mesh.kind, registry.names().join(", ")),
         ));
     }
-    let n = raw.mesh.elements_per_span;
-    if !(2..=100_000).contains(&n) {
-        return Err(loc.error(
-            K::InvalidValue,
-            "mesh.elements_per_span",
-            format!("must be between 2 and 100000, got {n}"),
-        ));
-    }
+    let mesh = match (raw.mesh.elements_per_span, raw.mesh.element_length) {
+        (Some(n), None) => {
+            if !(2..=100_000).contains(&n) {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "mesh.elements_per_span",
+                    format!("must be between 2 and 100000, got {n}"),
+                ));
+            }
+            MeshDensity::ElementsPerSpan(n)
+        }
+        (None, Some(l)) => {
+            let l = positive(loc, "mesh.element_length", l, "m")?;
+            MeshDensity::ElementLength(l)
+        }
+        (Some(_), Some(_)) => {
+            return Err(loc.error(
+                K::InvalidValue,
+                "mesh",
+                "give elements_per_span or element_length, not both",
+            ))
+        }
+        (None, None) => {
+            return Err(loc.error(K::MissingKey, "mesh", "give elements_per_span or element_length (m)"))
+        }
+    };
+    let iced_spans = match &raw.load_case.iced_spans {
+        None => None,
+        Some(list) => {
+            let mut out = Vec::new();
+            for &i in list {
+                if i == 0 || i > span_count {
+                    return Err(loc.error(
+                        K::InvalidValue,
+                        "load_case.iced_spans",
+                        format!("no span {i}: spans are numbered 1 to {span_count}"),
+                    ));
+                }
+                out.push(i - 1);
+            }
+            if raw.load_case.ice.is_none() {
+                return Err(loc.error(
+                    K::MissingKey,
+                    "load_case.ice",
+                    "iced_spans needs the ice: give load_case.ice",
+                ));
+            }
+            Some(out)
+        }
+    };
 
     let ice = match &raw.load_case.ice {
         None => None,
@@ -469,13 +533,15 @@ pub(super) fn validate(
         conductors,
         supports,
         spans,
+        section,
         element_kind: raw.mesh.kind,
-        elements_per_span: n,
+        mesh,
         stringing_temperature: temperature(loc, "stringing.temperature", raw.stringing.temperature)?,
         load_case: LoadCase {
             name: raw.load_case.name,
             temperature: temperature(loc, "load_case.temperature", raw.load_case.temperature)?,
             ice,
+            iced_spans,
             gravity,
             wind,
             iced_aero_table,

@@ -40,8 +40,10 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             ),
         )
     })?;
+    if let Some(section) = &spec.section {
+        return super::section_builder::build_section(spec, section, kind, &loc);
+    }
     let g = spec.load_case.gravity;
-    let n_el = spec.elements_per_span;
 
     let mut nodes: Vec<Vector3<f64>> = Vec::new();
     let mut elements = Vec::new();
@@ -58,6 +60,7 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         let b = spec.supports[s.to].position;
         let plan = Vector3::new(b.x - a.x, b.y - a.y, 0.0);
         let l = plan.norm();
+        let n_el = spec.mesh.elements_for(l);
         let direction = plan / l;
         let cat_span = CatenarySpan {
             horizontal_length: l,
@@ -102,11 +105,12 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         restrained[first + n_el] = [true; DOF_PER_NODE];
 
         let ell = chain.unstretched_length / n_el as f64;
-        let ice_mass = spec.load_case.ice.map_or(0.0, |ice| ice.mass_per_length(c.diameter));
-        let ice_polar = spec.load_case.ice.map_or(0.0, |ice| ice.polar_inertia_per_length(c.diameter));
+        let span_ice = spec.load_case.ice_on(i);
+        let ice_mass = span_ice.map_or(0.0, |ice| ice.mass_per_length(c.diameter));
+        let ice_polar = span_ice.map_or(0.0, |ice| ice.polar_inertia_per_length(c.diameter));
         let across = Vector3::z().cross(&direction);
         // Section of the load case: the iced table (or a round iced section), else the bare one.
-        let (table, orientation) = match spec.load_case.ice {
+        let (table, orientation) = match span_ice {
             Some(ice) if ice.thickness > 0.0 => match &spec.load_case.iced_aero_table {
                 Some(t) => (t.clone(), spec.load_case.ice_orientation),
                 None => (crate::input::round_section(ice.iced_diameter(c.diameter)), 0.0),
@@ -114,6 +118,8 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             _ => (c.aero_table.clone(), 0.0),
         };
         let first_element = elements.len();
+        let mut curvature = Vec::new();
+        let tangents = super::polygon_tangents(&nodes[first..first + n_el + 1], [None, None]);
         for k in 0..n_el {
             let ids = [first + k, first + k + 1];
             let segment = SegmentSpec {
@@ -124,7 +130,10 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
                 conductor: c,
                 mass_per_length: c.mass_per_length + ice_mass,
                 polar_inertia_per_length: c.polar_inertia_per_length + ice_polar,
+                end_tangents: [tangents[k], tangents[k + 1]],
             };
+            let chord = (segment.x0[1] - segment.x0[0]).normalize();
+            let straight = kind.build(&SegmentSpec { end_tangents: [chord; 2], ..segment });
             let element = kind.build(&segment).map_err(|e| {
                 loc.error(
                     InputErrorKind::InvalidValue,
@@ -135,6 +144,9 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             if element.uses_rotations() {
                 uses_rotation[ids[0]] = true;
                 uses_rotation[ids[1]] = true;
+            }
+            if let Ok(straight) = straight {
+                curvature.extend(super::curvature_loads(element.as_ref(), straight.as_ref(), &nodes));
             }
             aero.push(Some(ElementAero {
                 table: table.clone(),
@@ -153,6 +165,10 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
                 stringing_load[node * DOF_PER_NODE + 2] -= bare;
                 case_load[node * DOF_PER_NODE + 2] -= iced;
             }
+        }
+        for (node, d, v) in curvature {
+            stringing_load[node * DOF_PER_NODE + d] += v;
+            case_load[node * DOF_PER_NODE + d] += v * iced / bare;
         }
 
         // Supports: translations fixed. Kinds with rotations are clamped in
@@ -176,7 +192,10 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         spans.push(SpanMesh {
             nodes: (first..=first + n_el).collect(),
             elements: conductor_elements,
-            supports: [s.from, s.to],
+            end_names: [spec.supports[s.from].name.clone(), spec.supports[s.to].name.clone()],
+            route_span: i,
+            phase: None,
+            subconductor: 0,
             conductor: s.conductor,
             direction,
             horizontal_length: l,
@@ -205,6 +224,7 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         restrained,
         dofs,
         spans,
+        strings: Vec::new(),
         support_nodes,
         groups,
         stringing_load,

@@ -3,6 +3,7 @@
 
 mod builder;
 mod dof_map;
+mod section_builder;
 
 pub use builder::build;
 pub use dof_map::{DofMap, DOF_PER_NODE};
@@ -21,8 +22,14 @@ pub struct SpanMesh {
     pub nodes: Vec<usize>,
     /// Element indices, in order along the span.
     pub elements: std::ops::Range<usize>,
-    /// Support indices (into the spec) at the two ends.
-    pub supports: [usize; 2],
+    /// Names of the supports or towers at the two ends.
+    pub end_names: [String; 2],
+    /// Route span index (0-based); equals the position in a row.
+    pub route_span: usize,
+    /// Phase index of a section (`None` in a row).
+    pub phase: Option<usize>,
+    /// Subconductor index within the phase's bundle (0 in a row).
+    pub subconductor: usize,
     /// Conductor index.
     pub conductor: usize,
     /// Unit vector along the span in plan.
@@ -33,6 +40,21 @@ pub struct SpanMesh {
     pub height_difference: f64,
     /// The strung chain (stringing state).
     pub stringing: DiscreteChain,
+}
+
+/// One insulator string of a section.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StringMesh {
+    /// Tower index.
+    pub tower: usize,
+    /// Phase index.
+    pub phase: usize,
+    /// Hinge nodes at the tower (two for a V-string).
+    pub hinges: Vec<usize>,
+    /// The yoke node at the conductor end.
+    pub yoke: usize,
+    /// Element indices of the string's links.
+    pub elements: Vec<usize>,
 }
 
 /// The model of a section for one load case.
@@ -46,8 +68,10 @@ pub struct Model {
     pub restrained: Vec<[bool; DOF_PER_NODE]>,
     /// Equation numbering.
     pub dofs: DofMap,
-    /// Meshed spans.
+    /// Meshed spans (in a section: one per phase, subconductor and span).
     pub spans: Vec<SpanMesh>,
+    /// Insulator strings (sections only).
+    pub strings: Vec<StringMesh>,
     /// Restrained nodes, in the order of `/static/support_force`.
     pub support_nodes: Vec<usize>,
     /// Named node-index groups written to `/model/groups`.
@@ -69,4 +93,54 @@ impl Model {
     pub fn node_count(&self) -> usize {
         self.nodes.len()
     }
+}
+
+/// Unit tangents of a conductor meshed as the polygon `points`: at an
+/// interior node the bisector of the two chords, at the ends the end chord
+/// unless `ends` gives them.
+pub(crate) fn polygon_tangents(
+    points: &[Vector3<f64>],
+    ends: [Option<Vector3<f64>>; 2],
+) -> Vec<Vector3<f64>> {
+    let n = points.len();
+    let chord = |j: usize| (points[j + 1] - points[j]).normalize();
+    (0..n)
+        .map(|j| match j {
+            0 => ends[0].unwrap_or_else(|| chord(0)),
+            j if j == n - 1 => ends[1].unwrap_or_else(|| chord(n - 2)),
+            j => (chord(j - 1) + chord(j)).normalize(),
+        })
+        .collect()
+}
+
+/// The nodal loads that hold a conductor element curved to its nodal
+/// tangents in its rest shape at the stringing temperature: its rest
+/// internal force less that of the straight element on the same chord.
+/// They are the consistent end loads (end moments `∓ q h²/12`, and shears
+/// where the end slopes differ) of the weight q it carries along its arc,
+/// which lumping the weight at the nodes leaves out; the bowing of the
+/// rest arc under tension balances them. Constant in direction, like the
+/// weight. Returns `(node, dof, value)`.
+pub(crate) fn curvature_loads(
+    curved: &dyn glaze_elements::Element,
+    straight: &dyn glaze_elements::Element,
+    nodes: &[Vector3<f64>],
+) -> Vec<(usize, usize, f64)> {
+    let ids = curved.nodes();
+    let states: Vec<glaze_elements::NodeState> =
+        ids.iter().map(|&a| glaze_elements::NodeState::at_rest(nodes[a])).collect();
+    let ctx = glaze_elements::ElementContext::default();
+    let (mut fc, mut fs) = (vec![0.0; ids.len() * DOF_PER_NODE], vec![0.0; ids.len() * DOF_PER_NODE]);
+    curved.internal_force(&ctx, &states, &mut fc);
+    straight.internal_force(&ctx, &states, &mut fs);
+    let mut out = Vec::new();
+    for (local, &a) in ids.iter().enumerate() {
+        for d in 0..DOF_PER_NODE {
+            let v = fc[local * DOF_PER_NODE + d] - fs[local * DOF_PER_NODE + d];
+            if v != 0.0 {
+                out.push((a, d, v));
+            }
+        }
+    }
+    out
 }
