@@ -159,13 +159,13 @@ impl CorotationalBeam {
     /// a node about that tangent is a pure twist of both elements. Without
     /// it the rigid joint swings each chord's end sideways by half the kink
     /// angle times the twist, which the bowing term charges at the tension
-    /// (`≈ N L/12 (κ L)²` per unit twist², thirty to fifty times the
-    /// conductor's own torsional stiffness in a sagging span meshed at
-    /// 10 m). Bending, torsion and bowing are measured from the rest
-    /// curvature; the bowing strain is invariant under a common twist of
-    /// both ends (it depends on the end slopes only through `2|θ̄1|² −
-    /// θ̄1·θ̄2 + 2|θ̄2|²` over both planes). Fails if a tangent is more than
-    /// 30° from the chord.
+    /// (`≈ N L/24 (κ L)²` per unit twist² and element, thirty to a hundred
+    /// times a conductor's own torsional stiffness in a sagging span meshed
+    /// at 10 m). Bending and twist are measured from the rest state; the
+    /// bowing strain from the nearest rest arc turned about the chord (see
+    /// `local`), so the tension does not bend the element at rest nor
+    /// resist turning its arc. Fails if a tangent is more than 30° from the
+    /// chord.
     pub fn with_end_tangents(mut self, tangents: [Vector3<f64>; 2]) -> Result<Self, ElementError> {
         let e1 = Vector3::x();
         for (i, t) in tangents.iter().enumerate() {
@@ -412,7 +412,8 @@ impl Element for CorotationalBeam {
 
     /// Lumped mass (HRZ lumping; Hinton, Rock & Zienkiewicz 1976, EESD 4):
     /// `μ L0/2` per node on the translations; per node a rotational inertia
-    /// `R0 diag(ρIp L0/2, μ L0³/78, μ L0³/78) R0ᵀ` (kg·m²) in global axes,
+    /// `F diag(ρIp L0/2, μ L0³/78, μ L0³/78) Fᵀ` (kg·m²) in global axes, F
+    /// the end's frame (`R0`, turned to the nodal tangent when curved),
     /// where `μ L0³/78` is the HRZ-scaled diagonal `4L²` entry of the
     /// consistent Euler–Bernoulli mass matrix (`μL/420 · 4L²` scaled by
     /// `μL / (μL/420 · 312)`).
@@ -420,14 +421,17 @@ impl Element for CorotationalBeam {
         m[..144].fill(0.0);
         let (mu, l0) = (self.section.mass_per_length, self.unstretched_length);
         let half = 0.5 * mu * l0;
-        let inertia = self.frame0
-            * Matrix3::from_diagonal(&Vector3::new(
-                0.5 * self.section.polar_inertia_per_length * l0,
-                mu * l0.powi(3) / 78.0,
-                mu * l0.powi(3) / 78.0,
-            ))
-            * self.frame0.transpose();
+        let diagonal = Matrix3::from_diagonal(&Vector3::new(
+            0.5 * self.section.polar_inertia_per_length * l0,
+            mu * l0.powi(3) / 78.0,
+            mu * l0.powi(3) / 78.0,
+        ));
         for node in 0..2 {
+            // About the end's own axes (the nodal tangent of a curved
+            // element), so that a twist about the tangent sees only the polar
+            // inertia and not the far larger lumped bending inertia.
+            let frame = self.frame0 * self.end_offset[node];
+            let inertia = frame * diagonal * frame.transpose();
             let o = 6 * node;
             for i in 0..3 {
                 m[(o + i) * 12 + o + i] = half;

@@ -267,6 +267,16 @@ pub(super) fn validate(
             format!("unknown element type `{}`; known types: {}", raw.mesh.kind, registry.names().join(", ")),
         ));
     }
+    if section.is_some() && raw.mesh.kind != "beam" {
+        return Err(loc.error(
+            K::InvalidValue,
+            "mesh.type",
+            format!(
+                "a tension section needs conductor elements that turn (type = \"beam\"): yokes, spacers and devices grip the conductor and twist it; got `{}`",
+                raw.mesh.kind
+            ),
+        ));
+    }
     let mesh = match (raw.mesh.elements_per_span, raw.mesh.element_length) {
         (Some(n), None) => {
             if !(2..=100_000).contains(&n) {

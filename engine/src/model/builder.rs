@@ -118,7 +118,6 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             _ => (c.aero_table.clone(), 0.0),
         };
         let first_element = elements.len();
-        let mut curvature = Vec::new();
         let tangents = super::polygon_tangents(&nodes[first..first + n_el + 1], [None, None]);
         for k in 0..n_el {
             let ids = [first + k, first + k + 1];
@@ -132,8 +131,6 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
                 polar_inertia_per_length: c.polar_inertia_per_length + ice_polar,
                 end_tangents: [tangents[k], tangents[k + 1]],
             };
-            let chord = (segment.x0[1] - segment.x0[0]).normalize();
-            let straight = kind.build(&SegmentSpec { end_tangents: [chord; 2], ..segment });
             let element = kind.build(&segment).map_err(|e| {
                 loc.error(
                     InputErrorKind::InvalidValue,
@@ -144,9 +141,6 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             if element.uses_rotations() {
                 uses_rotation[ids[0]] = true;
                 uses_rotation[ids[1]] = true;
-            }
-            if let Ok(straight) = straight {
-                curvature.extend(super::curvature_loads(element.as_ref(), straight.as_ref(), &nodes));
             }
             aero.push(Some(ElementAero {
                 table: table.clone(),
@@ -165,10 +159,6 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
                 stringing_load[node * DOF_PER_NODE + 2] -= bare;
                 case_load[node * DOF_PER_NODE + 2] -= iced;
             }
-        }
-        for (node, d, v) in curvature {
-            stringing_load[node * DOF_PER_NODE + d] += v;
-            case_load[node * DOF_PER_NODE + d] += v * iced / bare;
         }
 
         // Supports: translations fixed. Kinds with rotations are clamped in

@@ -60,9 +60,6 @@ struct Mesh {
     bare_conductor: Vec<Option<f64>>,
     /// Per element: part of a device (weighed only in the load case).
     device: Vec<bool>,
-    /// Consistent loads of the weight on curved conductor elements
-    /// `(node, dof, value at stringing, case/stringing weight ratio)`.
-    curvature: Vec<(usize, usize, f64, f64)>,
 }
 
 impl Mesh {
@@ -444,7 +441,15 @@ pub(super) fn build_section(
                 let points: Vec<Vector3<f64>> = ids.iter().map(|&n| mesh.nodes[n]).collect();
                 // Smooth within the span; at a yoke the concentrated load kinks the
                 // conductor, so the end elements stay straight there.
-                let tangents = super::polygon_tangents(&points, [None, None]);
+                // Earth wires keep straight chords for now: curved, the iced
+                // earth wire clamped over the towers stalls the mean-wind load
+                // path (open; its twist is then over-stiff, see
+                // `CorotationalBeam::with_end_tangents`).
+                let tangents: Vec<Vector3<f64>> = if phase.earth_wire {
+                    points.windows(2).map(|w| (w[1] - w[0]).normalize()).collect()
+                } else {
+                    super::polygon_tangents(&points, [None, None])
+                };
                 let mut travelled = 0.0;
                 for (j, &ell) in chain.element_lengths.iter().enumerate() {
                     let [start, end] = conductor_extent[s];
@@ -461,17 +466,12 @@ pub(super) fn build_section(
                         conductor: c,
                         mass_per_length: c.mass_per_length + ice_mass + added,
                         polar_inertia_per_length: c.polar_inertia_per_length + ice_polar,
-                        end_tangents: [tangents[j], tangents[j + 1]],
+                        end_tangents: if phase.earth_wire {
+                            [tangents[j]; 2]
+                        } else {
+                            [tangents[j], tangents[j + 1]]
+                        },
                     };
-                    let chord = (segment.x0[1] - segment.x0[0]).normalize();
-                    if let (Ok(curved), Ok(straight)) = (
-                        kind.build(&segment),
-                        kind.build(&SegmentSpec { end_tangents: [chord; 2], ..segment }),
-                    ) {
-                        let ratio = segment.mass_per_length / c.mass_per_length;
-                        let loads = super::curvature_loads(curved.as_ref(), straight.as_ref(), &mesh.nodes);
-                        mesh.curvature.extend(loads.into_iter().map(|(n, d, v)| (n, d, v, ratio)));
-                    }
                     let element = kind.build(&segment).map_err(|e| {
                         invalid(&format!("phases[{p}]"), format!("span {}, element {j}: {e}", s + 1))
                     })?;
@@ -672,10 +672,6 @@ fn finish(
             };
             stringing_load[a * DOF_PER_NODE + 2] -= bare;
         }
-    }
-    for &(node, d, v, ratio) in &mesh.curvature {
-        stringing_load[node * DOF_PER_NODE + d] += v;
-        case_load[node * DOF_PER_NODE + d] += v * ratio;
     }
     let free: Vec<[bool; DOF_PER_NODE]> = mesh
         .restrained
