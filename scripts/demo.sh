@@ -4,5 +4,5 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 bash scripts/setup.sh
 mkdir -p out
-cargo run --release --quiet -p glaze -- check examples/row_of_spans.toml
-cargo run --release --quiet -p glaze -- static examples/row_of_spans.toml --out out/row_of_spans.h5
+cargo run --release --quiet -p glaze -- check examples/section_five_spans.toml
+cargo run --release --quiet -p glaze -- static examples/section_five_spans.toml --out out/section_five_spans.h5

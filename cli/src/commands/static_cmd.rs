@@ -19,9 +19,11 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
         let result = solve_static(&spec, &model)?;
         writer.write_static(&model, &result, &spec.load_case.name)?;
         let path = writer.finish(start.elapsed().as_secs_f64())?;
-        Ok::<_, GlazeError>((spec, result, path))
+        let lines = glaze_engine::summary::ModelSummary::of(&spec, &model).spans;
+        let strings = string_lines(&spec, &model, &result);
+        Ok::<_, GlazeError>((spec, result, path, lines, strings))
     })();
-    let (spec, result, path) = match outcome {
+    let (spec, result, path, lines, strings) = match outcome {
         Ok(v) => v,
         Err(e) => {
             // A failed run leaves no results file at the target path, so no
@@ -49,8 +51,11 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
     );
     out!();
     out!(
-        "{:>4}  {:>9} {:>8} {:>10} {:>12} {:>12} {:>12} {:>7}",
+        "{:>4}  {:<6} {:<10} {:<10} {:>9} {:>8} {:>10} {:>12} {:>12} {:>12} {:>7}",
         "span",
+        "wire",
+        "from",
+        "to",
         "length m",
         "sag m",
         "sag at m",
@@ -59,10 +64,13 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
         "T end N",
         "% RTS"
     );
-    for (i, s) in result.spans.iter().enumerate() {
+    for (s, line) in result.spans.iter().zip(&lines) {
         out!(
-            "{:>4}  {:>9.2} {:>8.3} {:>10.2} {:>12.1} {:>12.1} {:>12.1} {:>7.2}",
-            i + 1,
+            "{:>4}  {:<6} {:<10} {:<10} {:>9.2} {:>8.3} {:>10.2} {:>12.1} {:>12.1} {:>12.1} {:>7.2}",
+            line.route_span + 1,
+            if line.wire.is_empty() { "-" } else { &line.wire },
+            line.supports[0],
+            line.supports[1],
             s.horizontal_length,
             s.sag,
             s.sag_position,
@@ -72,8 +80,54 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
             100.0 * s.strength_ratio
         );
     }
+    if !strings.is_empty() {
+        out!();
+        out!("suspension strings: swing of the yoke from plumb along and across the line;");
+        out!("dead-end strings: angle below the horizontal and in plan from the line");
+        out!(
+            "{:<10} {:<6} {:>12} {:>12} {:>12}",
+            "string at",
+            "phase",
+            "along° / dip°",
+            "across°",
+            "tension N"
+        );
+        for line in &strings {
+            out!("{line}");
+        }
+    }
     out!();
     out!("results written to {}", path.display());
     out!("{CAUTION}");
     Ok(())
+}
+
+/// One line per insulator string: tower, phase, swing of the yoke from
+/// below the hinge along and across the line (degrees), axial force of its
+/// (first) leg.
+fn string_lines(
+    spec: &glaze_engine::spec::SectionSpec,
+    model: &glaze_engine::model::Model,
+    result: &glaze_engine::analysis::StaticResult,
+) -> Vec<String> {
+    let Some(section) = &spec.section else { return Vec::new() };
+    model
+        .strings
+        .iter()
+        .map(|s| {
+            let top = result.config.positions[s.hinges[0]];
+            let d = result.config.positions[s.yoke] - top;
+            let tension = s.elements.first().map_or(0.0, |&e| result.element_output[e].axial_force);
+            let (a, b) = match section.towers[s.tower].kind {
+                glaze_engine::spec::TowerKind::DeadEnd => {
+                    ((-d.z).atan2(d.x.abs()).to_degrees(), d.y.atan2(d.x.abs()).to_degrees())
+                }
+                _ => (d.x.atan2(-d.z).to_degrees(), d.y.atan2(-d.z).to_degrees()),
+            };
+            format!(
+                "{:<10} {:<6} {:>12.2} {:>12.2} {:>12.1}",
+                section.towers[s.tower].name, section.phases[s.phase].name, a, b, tension
+            )
+        })
+        .collect()
 }
