@@ -66,6 +66,9 @@ fn print_table(file: &Path, r: &ScreeningResult) {
         out!("{mark}");
     }
     out!();
+    if let Some((u, why)) = &r.stopped_at {
+        out!("the sweep stops at {u:.1} m/s: no static equilibrium there ({why})");
+    }
     match critical {
         Some((i, u)) => out!("lowest critical wind speed: {u:.2} m/s, mode {}", r.modes[i].mode),
         None => out!("no mode reaches galloping onset in the speeds screened"),
@@ -118,6 +121,7 @@ fn json(r: &ScreeningResult) -> serde_json::Value {
         "structural_damping": r.structural_damping,
         "critical": r.critical().map(|(i, u)| serde_json::json!({"mode": r.modes[i].mode, "speed_m_s": u})),
         "modes": modes,
+        "stopped_at": r.stopped_at.as_ref().map(|(u, why)| serde_json::json!({"speed_m_s": u, "reason": why})),
         "caution": CAUTION,
     })
 }

@@ -68,6 +68,9 @@ pub struct ScreeningResult {
     pub structural_damping: f64,
     /// Per mode.
     pub modes: Vec<ModeScreening>,
+    /// The first speed of the sweep with no static equilibrium, and why;
+    /// the sweep stops there (`wind_speeds` holds the speeds screened).
+    pub stopped_at: Option<(f64, String)>,
 }
 
 impl ScreeningResult {
@@ -111,13 +114,25 @@ pub fn run_screening(spec: &SectionSpec, registry: &ElementRegistry) -> Result<S
         )
     })?;
     let mut per_speed = Vec::new();
+    let mut stopped_at = None;
     for &u in &screening.wind_speeds {
         let mut case = spec.clone();
         let mut wind = base_wind;
         wind.wind.speed = u;
         case.load_case.wind = Some(wind);
         let model = model::build(&case, registry)?;
-        let state = run_static(&case, &model)?;
+        let state = match run_static(&case, &model) {
+            Ok(state) => state,
+            // A speed with no static equilibrium (a limit point of the mean
+            // wind, e.g. the ice's moment twisting the conductor past a
+            // static limit) ends the sweep; the speeds below it stand.
+            Err(e) if !per_speed.is_empty() => {
+                tracing::warn!("screening stops at {u} m/s: {e}");
+                stopped_at = Some((u, e.to_string()));
+                break;
+            }
+            Err(e) => return Err(e.into()),
+        };
         let lin = Linearisation::about(&model, &state.config)?;
         let count = screening.modes.min(lin.mode_capacity());
         let modes = lin.solve(&ModalSettings::new(count))?;
@@ -153,7 +168,7 @@ pub fn run_screening(spec: &SectionSpec, registry: &ElementRegistry) -> Result<S
             });
         }
         let total: Vec<f64> = at_speed.iter().map(|m| xi_s + m.aero_damping).collect();
-        let speeds = &screening.wind_speeds;
+        let speeds = &screening.wind_speeds[..per_speed.len()];
         let onset_speed = (0..total.len()).find(|&k| total[k] < 0.0).map(|k| {
             if k == 0 {
                 speeds[0]
@@ -166,9 +181,10 @@ pub fn run_screening(spec: &SectionSpec, registry: &ElementRegistry) -> Result<S
         result.push(ModeScreening { mode: i + 1, at_speed, onset_speed, den_hartog_speed });
     }
     Ok(ScreeningResult {
-        wind_speeds: screening.wind_speeds.clone(),
+        wind_speeds: screening.wind_speeds[..per_speed.len()].to_vec(),
         structural_damping: xi_s,
         modes: result,
+        stopped_at,
     })
 }
 
