@@ -94,6 +94,7 @@ fn pendulum(theta0: f64) -> (Model, Configuration, f64) {
         dofs: DofMap::new(&free),
         spans: Vec::new(),
         strings: Vec::new(),
+        phase_names: Vec::new(),
         support_nodes: vec![0],
         groups: BTreeMap::new(),
         stringing_load: case_load.clone(),

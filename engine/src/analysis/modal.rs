@@ -454,7 +454,7 @@ pub fn describe(model: &Model, lin: &Linearisation, modes: &ModeSet, frames: &[N
                 mode_shape::loops(&values)
             })
             .collect();
-        labels.push(mode_shape::label(&shares, &spans, &span_loops));
+        labels.push(section_label(model, &shares, &spans, &span_loops));
         energy_share.push(shares);
         span_share.push(spans);
         loops.push(span_loops);
@@ -585,4 +585,38 @@ mod tests {
             }
         }
     }
+}
+
+/// The label of a mode: for a row, by span; for a section, by route span
+/// (the wires of a span summed, the loops of its most energetic wire) with
+/// the phases that hold at least a fifth of the energy.
+fn section_label(model: &Model, shares: &[f64; 4], spans: &[f64], span_loops: &[usize]) -> String {
+    if model.spans.iter().all(|s| s.phase.is_none()) {
+        return mode_shape::label(shares, spans, span_loops);
+    }
+    let route = model.spans.iter().map(|s| s.route_span + 1).max().unwrap_or(0);
+    let phases = model.spans.iter().filter_map(|s| s.phase).max().map_or(0, |p| p + 1);
+    let mut route_share = vec![0.0; route];
+    let mut route_loops = vec![0; route];
+    let mut best = vec![-1.0; route];
+    let mut phase_share = vec![0.0; phases];
+    for (k, s) in model.spans.iter().enumerate() {
+        route_share[s.route_span] += spans[k];
+        if spans[k] > best[s.route_span] {
+            best[s.route_span] = spans[k];
+            route_loops[s.route_span] = span_loops[k];
+        }
+        if let Some(p) = s.phase {
+            phase_share[p] += spans[k];
+        }
+    }
+    let mut text = mode_shape::label(shares, &route_share, &route_loops);
+    let names: Vec<String> = (0..phases)
+        .filter(|&p| phase_share[p] >= 0.2)
+        .map(|p| model.phase_names.get(p).cloned().unwrap_or_else(|| format!("{}", p + 1)))
+        .collect();
+    if !names.is_empty() {
+        text += &format!(", phase{} {}", if names.len() > 1 { "s" } else { "" }, names.join(", "));
+    }
+    text
 }

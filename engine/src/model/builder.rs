@@ -215,6 +215,7 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
         dofs,
         spans,
         strings: Vec::new(),
+        phase_names: Vec::new(),
         support_nodes,
         groups,
         stringing_load,

@@ -86,6 +86,8 @@ pub struct Model {
     pub aero: Vec<Option<ElementAero>>,
     /// Mean wind of the load case.
     pub wind: Option<WindSpec>,
+    /// Names of a section's phases and earth wires, by index (empty for a row).
+    pub phase_names: Vec<String>,
 }
 
 impl Model {

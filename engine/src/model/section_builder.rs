@@ -693,6 +693,10 @@ fn finish(
         dofs,
         spans,
         strings,
+        phase_names: spec
+            .section
+            .as_ref()
+            .map_or(Vec::new(), |s| s.phases.iter().map(|p| p.name.clone()).collect()),
         support_nodes,
         groups,
         stringing_load,
