@@ -553,40 +553,6 @@ fn rotate_inertia(m: &[f64], rotations: &[Matrix3<f64>]) -> Vec<f64> {
     rotated.transpose().as_slice().to_vec()
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn auto_method_picks_dense_for_small_or_nearly_full_problems() {
-        assert_eq!(EigenMethod::Auto.resolve(600, 10), EigenMethod::Dense);
-        assert_eq!(EigenMethod::Auto.resolve(3000, 40), EigenMethod::Lanczos);
-        assert_eq!(EigenMethod::Auto.resolve(1000, 495), EigenMethod::Dense);
-        assert_eq!(EigenMethod::Lanczos.resolve(10, 2), EigenMethod::Lanczos);
-    }
-
-    #[test]
-    fn rotary_inertia_turns_with_the_node() {
-        // One node: mass 2 kg, inertia diag(1, 3, 3) about (x, y, z); after
-        // a quarter turn about z the large axes are x and z.
-        let mut m = vec![0.0; 36];
-        for (i, v) in [2.0, 2.0, 2.0, 1.0, 3.0, 3.0].into_iter().enumerate() {
-            m[i * 6 + i] = v;
-        }
-        let r =
-            nalgebra::Rotation3::from_axis_angle(&nalgebra::Vector3::z_axis(), std::f64::consts::FRAC_PI_2)
-                .into_inner();
-        let out = rotate_inertia(&m, &[r]);
-        let want = [2.0, 2.0, 2.0, 3.0, 1.0, 3.0];
-        for i in 0..6 {
-            for j in 0..6 {
-                let w = if i == j { want[i] } else { 0.0 };
-                assert!((out[i * 6 + j] - w).abs() < 1e-14, "({i},{j})");
-            }
-        }
-    }
-}
-
 /// The label of a mode: for a row, by span; for a section, by route span
 /// (the wires of a span summed, the loops of its most energetic wire) with
 /// the phases that hold at least a fifth of the energy.
@@ -619,4 +585,38 @@ fn section_label(model: &Model, shares: &[f64; 4], spans: &[f64], span_loops: &[
         text += &format!(", phase{} {}", if names.len() > 1 { "s" } else { "" }, names.join(", "));
     }
     text
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn auto_method_picks_dense_for_small_or_nearly_full_problems() {
+        assert_eq!(EigenMethod::Auto.resolve(600, 10), EigenMethod::Dense);
+        assert_eq!(EigenMethod::Auto.resolve(3000, 40), EigenMethod::Lanczos);
+        assert_eq!(EigenMethod::Auto.resolve(1000, 495), EigenMethod::Dense);
+        assert_eq!(EigenMethod::Lanczos.resolve(10, 2), EigenMethod::Lanczos);
+    }
+
+    #[test]
+    fn rotary_inertia_turns_with_the_node() {
+        // One node: mass 2 kg, inertia diag(1, 3, 3) about (x, y, z); after
+        // a quarter turn about z the large axes are x and z.
+        let mut m = vec![0.0; 36];
+        for (i, v) in [2.0, 2.0, 2.0, 1.0, 3.0, 3.0].into_iter().enumerate() {
+            m[i * 6 + i] = v;
+        }
+        let r =
+            nalgebra::Rotation3::from_axis_angle(&nalgebra::Vector3::z_axis(), std::f64::consts::FRAC_PI_2)
+                .into_inner();
+        let out = rotate_inertia(&m, &[r]);
+        let want = [2.0, 2.0, 2.0, 3.0, 1.0, 3.0];
+        for i in 0..6 {
+            for j in 0..6 {
+                let w = if i == j { want[i] } else { 0.0 };
+                assert!((out[i * 6 + j] - w).abs() < 1e-14, "({i},{j})");
+            }
+        }
+    }
 }
