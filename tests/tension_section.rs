@@ -442,3 +442,48 @@ fn twin_bundle_torsion_frequency_and_detuning_pendulums() {
     println!("shift glaze {shift:+.4}, reference {shift_ref:+.4}");
     assert!((shift - shift_ref).abs() < 0.1 * shift_ref.abs().max(0.01), "{shift} vs {shift_ref}");
 }
+
+#[test]
+fn v_string_leg_forces_in_a_cross_wind_match_the_statics_of_the_yoke() {
+    // V-strings (legs at ±45° from the vertical) hold the yoke against the
+    // cross wind: at the yoke, (T₊ + T₋) cos β = W and (T₋ − T₊) sin β = F,
+    // with W the weight of half of each adjacent span and half the string,
+    // F the wind on half of each adjacent span (statics of a two-bar
+    // truss, common practice; the yoke barely moves, so the spans' chords
+    // do not turn).
+    let u = 25.0;
+    let beta = 45f64.to_radians();
+    let lc = format!("[load_case]\ntemperature = 15.0\nwind = {{ speed = {u}, direction = 90.0 }}\n");
+    let text = section_toml(&SPANS, &[("A", 1)], H1, &lc).replace(
+        "[insulators.i_string]\nkind = \"suspension\"",
+        "[insulators.i_string]\nkind = \"v_string\"\nhalf_angle = 45.0",
+    );
+    let (m, r) = solve(&text);
+    let q = 0.5 * RHO_AIR * u * u * D;
+    for s in m.strings.iter().filter(|s| s.hinges.len() == 2) {
+        let k = s.tower;
+        let half = 0.5 * (SPANS[k - 1] + SPANS[k]);
+        let w = MASS * G * half + 0.5 * I_MASS * G;
+        let f = q * half;
+        let legs: Vec<(f64, f64)> = s
+            .elements
+            .iter()
+            .zip(&s.hinges)
+            .map(|(&e, &h)| (m.nodes[h].y - m.nodes[s.yoke].y, r.element_output[e].axial_force))
+            .collect();
+        let plus = legs.iter().find(|l| l.0 > 0.0).expect("a leg on +y").1;
+        let minus = legs.iter().find(|l| l.0 < 0.0).expect("a leg on −y").1;
+        let want_plus = w / (2.0 * beta.cos()) - f / (2.0 * beta.sin());
+        let want_minus = w / (2.0 * beta.cos()) + f / (2.0 * beta.sin());
+        println!(
+            "V-string T{}: legs +y {plus:.1} N (statics {want_plus:.1}), −y {minus:.1} N (statics {want_minus:.1})",
+            k + 1
+        );
+        // Within 1 % of the larger leg force: the arc is longer than the span
+        // by (8/3)(sag/span)² ≈ 0.3 % and the yoke moves a few millimetres.
+        let scale = want_minus.abs().max(want_plus.abs());
+        assert!((plus - want_plus).abs() < 0.01 * scale, "T{}: +y leg {plus} vs {want_plus}", k + 1);
+        assert!((minus - want_minus).abs() < 0.01 * scale, "T{}: −y leg {minus} vs {want_minus}", k + 1);
+    }
+    assert_eq!(m.strings.iter().filter(|s| s.hinges.len() == 2).count(), SPANS.len() - 1);
+}
