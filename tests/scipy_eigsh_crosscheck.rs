@@ -1,6 +1,8 @@
 //! glaze's modes against SciPy: the stiffness and mass matrices of a small
-//! model (the quick-start demo `examples/row_of_spans.toml` meshed with 10
-//! beam elements per span, 162 free DOF, about its iced static state) are
+//! model (the quick-start demo `examples/row_of_spans.toml` meshed with 30
+//! beam elements per span, about its iced static state; coarser meshes of
+//! curved conductor elements lose the single conductor's small torsional
+//! stiffness, see `CorotationalBeam::with_end_tangents`) are
 //! exported as Matrix Market files and solved independently with
 //! `scipy.sparse.linalg.eigsh(K, k, M, sigma=σ)` (ARPACK shift-invert) by
 //! `tests/python/eigsh_check.py`; the lowest 10 frequencies must agree to
@@ -20,14 +22,18 @@ const COUNT: usize = 10;
 fn demo_modes_agree_with_scipy_eigsh() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
     let demo = std::fs::read_to_string(root.join("examples/row_of_spans.toml")).unwrap();
-    let text = demo.replace("elements_per_span = 40", "elements_per_span = 10");
+    let text = demo.replace("elements_per_span = 40", "elements_per_span = 30");
     assert_ne!(text, demo, "the demo's mesh line changed; update this test");
     let registry = ElementRegistry::with_builtin();
     let spec = input::load_str(Path::new("row_of_spans_coarse.toml"), &text, &registry).unwrap();
     let mdl = model::build(&spec, &registry).unwrap();
     let stat = run_static(&spec, &mdl).unwrap();
     let lin = Linearisation::about(&mdl, &stat.config).unwrap();
-    assert!(lin.asymmetry < 1e-10, "tangent asymmetry {} at equilibrium", lin.asymmetry);
+    // At equilibrium the tangent is symmetric up to the load stiffness of
+    // the constant consistent end moments of the weight on the curved
+    // conductor elements (`model::curvature_loads`, ∓ q h²/12), a small
+    // share of the bending terms; the modal analysis takes the symmetric part.
+    assert!(lin.asymmetry < 1e-3, "tangent asymmetry {} at equilibrium", lin.asymmetry);
     let modes = lin.solve(&ModalSettings::new(COUNT)).unwrap();
     let freqs: Vec<String> = modes
         .omega_squared

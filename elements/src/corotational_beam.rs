@@ -162,10 +162,15 @@ impl CorotationalBeam {
     /// (`≈ N L/24 (κ L)²` per unit twist² and element, thirty to a hundred
     /// times a conductor's own torsional stiffness in a sagging span meshed
     /// at 10 m). Bending and twist are measured from the rest state; the
-    /// bowing strain from the nearest rest arc turned about the chord (see
-    /// `local`), so the tension does not bend the element at rest nor
-    /// resist turning its arc. Fails if a tangent is more than 30° from the
-    /// chord.
+    /// bowing strain is `b(θ̄) − b(θ̄⁰)`, invariant under a common twist of
+    /// both ends (it depends on the end slopes only through `2|θ̄1|² −
+    /// θ̄1·θ̄2 + 2|θ̄2|²` over both planes). Under tension the rest arc has
+    /// end moments: in a model they are the consistent end loads of the
+    /// weight the arc carries (`∓ q L²/12`), which the model builder adds
+    /// (`model::curvature_loads`). Long elements of a torsionally soft
+    /// conductor then lose stability in twist (40 m elements of a 400 m
+    /// span), and `model::build` warns above 20 m. Fails if a tangent is
+    /// more than 30° from the chord.
     pub fn with_end_tangents(mut self, tangents: [Vector3<f64>; 2]) -> Result<Self, ElementError> {
         let e1 = Vector3::x();
         for (i, t) in tangents.iter().enumerate() {

@@ -12,14 +12,8 @@
 //!
 //! with `ε = (l − Lt)/Lt + b`, `κ = (θ̄2x − θ̄1x)/L`, `Lt = L0 (1 + α ΔT)`
 //! and `L = |X2 − X1|`. In an initially curved element (rest rotations
-//! θ̄⁰1, θ̄⁰2) the bending and twist terms take `θ̄ − θ̄⁰`, and the bowing
-//! strain is measured from the nearest rest arc turned about the chord:
-//! `b = min_ψ Q(θ̄ − R(ψ)θ̄⁰)` over the end slopes' lateral parts, which is
-//! `(Q(θ̄) + Q(θ̄⁰) − |Z|)/30` with `Z = M θ̄` (derived here; `M` from
-//! `p = 4θ̄⁰1 − θ̄⁰2`, `q = 4θ̄⁰2 − θ̄⁰1`, the lateral parts read as complex
-//! numbers). Turning the arc about its chord does not lengthen it, so the
-//! tension neither resists it nor, at rest, bends the element: there is no
-//! prestress to balance. The bowing strain
+//! θ̄⁰1, θ̄⁰2) the bending and twist terms take `θ̄ − θ̄⁰` and the bowing
+//! strain is `b(θ̄) − b(θ̄⁰)`. The bowing strain
 //! `b = (1/30) Σ_c (2θ̄1c² − θ̄1c θ̄2c + 2θ̄2c²)` is the mean of `½ v'²` for
 //! the cubic (Hermite) deflection with end slopes θ̄1, θ̄2 (derived here:
 //! `∫₀¹ v'² dξ = (2θ1² − θ1θ2 + 2θ2²)/15`). It is the averaged "shallow
@@ -69,61 +63,13 @@ pub(super) fn response(
         for c in 1..3 {
             let (a, b) = (t1[c], t2[c]);
             let (a0, b0) = (rest[0][c], rest[1][c]);
-            bow += (2.0 * a * a - a * b + 2.0 * b * b + (2.0 * a0 * a0 - a0 * b0 + 2.0 * b0 * b0)) / 30.0;
+            bow += (2.0 * a * a - a * b + 2.0 * b * b - (2.0 * a0 * a0 - a0 * b0 + 2.0 * b0 * b0)) / 30.0;
             g_eps[1 + c] = (4.0 * a - b) / 30.0;
             g_eps[4 + c] = (4.0 * b - a) / 30.0;
             h_b[(1 + c, 1 + c)] = 4.0 / 30.0;
             h_b[(4 + c, 4 + c)] = 4.0 / 30.0;
             h_b[(1 + c, 4 + c)] = -1.0 / 30.0;
             h_b[(4 + c, 1 + c)] = -1.0 / 30.0;
-        }
-        // − |Z| / 30: Z = M [θ̄1y, θ̄1z, θ̄2y, θ̄2z] (rows: real, imaginary part).
-        let p = [4.0 * rest[0].y - rest[1].y, 4.0 * rest[0].z - rest[1].z];
-        let q = [4.0 * rest[1].y - rest[0].y, 4.0 * rest[1].z - rest[0].z];
-        if p != [0.0; 2] || q != [0.0; 2] {
-            // Local DOF of the four lateral rotations.
-            let dof = [2, 3, 5, 6];
-            let m = [[p[0], p[1], q[0], q[1]], [p[1], -p[0], q[1], -q[0]]];
-            let x = [t1.y, t1.z, t2.y, t2.z];
-            let z: [f64; 2] = std::array::from_fn(|r| (0..4).map(|k| m[r][k] * x[k]).sum());
-            // −f(|Z|) with f(r) = r from the rest value r0 = |Z⁰| = 2 Q(θ̄⁰)
-            // up, and (r² + r0²)/(2 r0) below it (C¹ at r0): the exact
-            // distance to the turned rest arcs curves the wrong way for an
-            // element straighter than at rest, which would let the tension
-            // buckle a torsionally soft conductor sideways; below r0 the
-            // tension neither resists nor drives the turning.
-            let (a0, b0) = (rest[0], rest[1]);
-            let r0 = 2.0
-                * (0..2)
-                    .map(|c| {
-                        2.0 * a0[c + 1] * a0[c + 1] - a0[c + 1] * b0[c + 1] + 2.0 * b0[c + 1] * b0[c + 1]
-                    })
-                    .sum::<f64>();
-            let r = (z[0] * z[0] + z[1] * z[1]).sqrt();
-            let mz: [f64; 4] = std::array::from_fn(|k| m[0][k] * z[0] + m[1][k] * z[1]);
-            if r >= r0 && r > 0.0 {
-                bow -= r / 30.0;
-                for k in 0..4 {
-                    g_eps[dof[k]] -= mz[k] / (30.0 * r);
-                }
-                for i in 0..4 {
-                    for j in 0..4 {
-                        let mm = m[0][i] * m[0][j] + m[1][i] * m[1][j];
-                        h_b[(dof[i], dof[j])] -= (mm / r - mz[i] * mz[j] / (r * r * r)) / 30.0;
-                    }
-                }
-            } else {
-                bow -= (r * r + r0 * r0) / (2.0 * r0) / 30.0;
-                for k in 0..4 {
-                    g_eps[dof[k]] -= mz[k] / (30.0 * r0);
-                }
-                for i in 0..4 {
-                    for j in 0..4 {
-                        let mm = m[0][i] * m[0][j] + m[1][i] * m[1][j];
-                        h_b[(dof[i], dof[j])] -= mm / r0 / 30.0;
-                    }
-                }
-            }
         }
     }
     let mut g_kap = SVector::<f64, 7>::zeros();

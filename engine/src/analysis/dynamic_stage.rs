@@ -196,8 +196,18 @@ fn integrate(
         HistoryWriter::create(writer, model.node_count(), model.elements.len(), model.support_nodes.len())?;
     let first_config = system.committed.clone();
     let first_config_positions = first_config.positions.clone();
-    let mut integ = Integrator::new(system, vec![0.0; n], 0.0, settings(d))
-        .map_err(|e| GlazeError::Analysis { message: format!("the dynamic run could not start: {e}") })?;
+    let mut system = system;
+    let start_error = |e: glaze_solvers::SolverError| GlazeError::Analysis {
+        message: format!("the dynamic run could not start: {e}"),
+    };
+    let mut integ = match initial_acceleration(&mut system) {
+        None => Integrator::new(system, vec![0.0; n], 0.0, settings(d)).map_err(start_error)?,
+        Some(a0) => {
+            let a0 = a0.map_err(start_error)?;
+            Integrator::with_initial_acceleration(system, vec![0.0; n], a0, 0.0, settings(d))
+                .map_err(start_error)?
+        }
+    };
     let mut energy = Energy {
         initial_strain: None,
         dissipated: 0.0,
@@ -446,4 +456,37 @@ fn support_forces(
         .iter()
         .map(|&n| std::array::from_fn(|d| full[n * DOF_PER_NODE + d] - model.case_load[n * DOF_PER_NODE + d]))
         .collect()
+}
+
+/// The initial acceleration when some equations carry no mass (the hubs of
+/// spacer and yoke frames, the clamp nodes of `ClampJoint`s): M a₀ = −g₀
+/// on the equations with mass, a₀ = 0 on the massless ones, which the
+/// stiffness ties to the rest (M is lumped, so a massless equation's row is
+/// empty). `None` when every equation has mass (the integrator solves for
+/// a₀ itself).
+fn initial_acceleration(
+    system: &mut DynamicSystem<'_>,
+) -> Option<Result<Vec<f64>, glaze_solvers::SolverError>> {
+    use glaze_solvers::LinearSolver;
+    use glaze_solvers::SecondOrderSystem;
+    let n = system.dim();
+    let diag = system.pattern().diagonal_indices();
+    let scale = diag.iter().map(|&k| system.mass()[k].abs()).fold(0.0, f64::max);
+    let massless: Vec<bool> = diag.iter().map(|&k| system.mass()[k].abs() <= 1e-14 * scale).collect();
+    if !massless.iter().any(|&m| m) {
+        return None;
+    }
+    let mut g = vec![0.0; n];
+    if let Err(e) = system.evaluate(0.0, &vec![0.0; n], &mut g, None, None) {
+        return Some(Err(glaze_solvers::SolverError::EvaluationAtTime { time: 0.0, message: e.to_string() }));
+    }
+    let mut m = system.mass().to_vec();
+    for (i, &k) in diag.iter().enumerate() {
+        if massless[i] {
+            m[k] = 1.0;
+        }
+    }
+    let mut a: Vec<f64> = g.iter().zip(&massless).map(|(gi, &ml)| if ml { 0.0 } else { -gi }).collect();
+    let mut solver = glaze_solvers::SparseDirect::new(system.pattern());
+    Some(solver.factor(&m).and_then(|_| solver.solve_in_place(&mut a)).map(|_| a))
 }

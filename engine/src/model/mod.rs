@@ -114,3 +114,35 @@ pub(crate) fn polygon_tangents(
         })
         .collect()
 }
+
+/// The nodal loads that hold a conductor element curved to its nodal
+/// tangents in its rest shape at the stringing temperature: its rest
+/// internal force less that of the straight element on the same chord.
+/// They are the consistent end loads (end moments `∓ q h²/12`, and shears
+/// where the end slopes differ) of the weight q it carries along its arc,
+/// which lumping the weight at the nodes leaves out; the bowing of the
+/// rest arc under tension balances them. Constant in direction, like the
+/// weight. Returns `(node, dof, value)`.
+pub(crate) fn curvature_loads(
+    curved: &dyn glaze_elements::Element,
+    straight: &dyn glaze_elements::Element,
+    nodes: &[Vector3<f64>],
+) -> Vec<(usize, usize, f64)> {
+    let ids = curved.nodes();
+    let states: Vec<glaze_elements::NodeState> =
+        ids.iter().map(|&a| glaze_elements::NodeState::at_rest(nodes[a])).collect();
+    let ctx = glaze_elements::ElementContext::default();
+    let (mut fc, mut fs) = (vec![0.0; ids.len() * DOF_PER_NODE], vec![0.0; ids.len() * DOF_PER_NODE]);
+    curved.internal_force(&ctx, &states, &mut fc);
+    straight.internal_force(&ctx, &states, &mut fs);
+    let mut out = Vec::new();
+    for (local, &a) in ids.iter().enumerate() {
+        for d in 0..DOF_PER_NODE {
+            let v = fc[local * DOF_PER_NODE + d] - fs[local * DOF_PER_NODE + d];
+            if v != 0.0 {
+                out.push((a, d, v));
+            }
+        }
+    }
+    out
+}

@@ -60,6 +60,9 @@ struct Mesh {
     bare_conductor: Vec<Option<f64>>,
     /// Per element: part of a device (weighed only in the load case).
     device: Vec<bool>,
+    /// Consistent loads of the weight on curved conductor elements
+    /// `(node, dof, value at stringing, case/stringing weight ratio)`.
+    curvature: Vec<(usize, usize, f64, f64)>,
 }
 
 impl Mesh {
@@ -472,6 +475,15 @@ pub(super) fn build_section(
                             [tangents[j], tangents[j + 1]]
                         },
                     };
+                    let chord = (segment.x0[1] - segment.x0[0]).normalize();
+                    if let (Ok(curved), Ok(straight)) = (
+                        kind.build(&segment),
+                        kind.build(&SegmentSpec { end_tangents: [chord; 2], ..segment }),
+                    ) {
+                        let ratio = segment.mass_per_length / c.mass_per_length;
+                        let loads = super::curvature_loads(curved.as_ref(), straight.as_ref(), &mesh.nodes);
+                        mesh.curvature.extend(loads.into_iter().map(|(n, d, v)| (n, d, v, ratio)));
+                    }
                     let element = kind.build(&segment).map_err(|e| {
                         invalid(&format!("phases[{p}]"), format!("span {}, element {j}: {e}", s + 1))
                     })?;
@@ -672,6 +684,10 @@ fn finish(
             };
             stringing_load[a * DOF_PER_NODE + 2] -= bare;
         }
+    }
+    for &(node, d, v, ratio) in &mesh.curvature {
+        stringing_load[node * DOF_PER_NODE + d] += v;
+        case_load[node * DOF_PER_NODE + d] += v * ratio;
     }
     let free: Vec<[bool; DOF_PER_NODE]> = mesh
         .restrained
