@@ -277,3 +277,44 @@ temperature = 15.0
         assert!(rel.abs() < 0.01, "k = {}: {fk} vs {want}", k + 1);
     }
 }
+
+#[test]
+fn a_bare_row_at_its_stringing_state_has_no_mode_below_the_first_swing() {
+    // The out-of-plane (swinging) modes of a shallow cable are those of a
+    // taut string at the horizontal tension: f_n = n/(2S) √(H/m) (Irvine,
+    // *Cable Structures*, 1981, §4.2, from memory; S the arc length and m
+    // per unit arc length). At the stringing state of the demo row (no ice,
+    // stringing temperature) the lowest mode must be the first swing of the
+    // longest span: a kinked polygon of curved elements must not add modes
+    // of its own below it.
+    let demo =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/row_of_spans.toml"))
+            .unwrap();
+    let text = format!(
+        "{}[load_case]\ntemperature = 15.0\n",
+        &demo[..demo.find("[load_case]").expect("a load case")]
+    );
+    let registry = ElementRegistry::with_builtin();
+    let spec = input::load_str(Path::new("row_rest.toml"), &text, &registry).unwrap();
+    let mdl = model::build(&spec, &registry).unwrap();
+    let stat = run_static(&spec, &mdl).unwrap();
+    let r = run_modal(&mdl, &stat, &ModalSettings::new(6)).unwrap();
+    let (k, s) = stat
+        .spans
+        .iter()
+        .enumerate()
+        .max_by(|a, b| a.1.conductor_length.total_cmp(&b.1.conductor_length))
+        .expect("spans");
+    let c = &spec.conductors[mdl.spans[k].conductor];
+    let m = c.mass_per_length * s.unstretched_length / s.conductor_length;
+    let want = 1.0 / (2.0 * s.conductor_length) * (s.horizontal_tension / m).sqrt();
+    let rel = r.frequency_hz[0] / want - 1.0;
+    println!(
+        "lowest mode {:.5} Hz ({}), first swing of span {} {want:.5} Hz, rel {rel:+.2e}",
+        r.frequency_hz[0],
+        r.labels[0],
+        k + 1
+    );
+    assert!(r.labels[0].starts_with("transverse, 1 loop"), "lowest mode: {}", r.labels[0]);
+    assert!(rel.abs() < 0.01, "{} Hz vs {want} Hz", r.frequency_hz[0]);
+}
