@@ -66,7 +66,7 @@ duration = {duration}
 time_step = 0.01
 output_interval = 0.05
 damping = {{ modes = [1, 10], ratios = [0.005, 0.005] }}
-perturbation = {{ mode = 4, amplitude = 0.1 }}
+perturbation = {{ mode = 7, amplitude = 0.1 }}
 "#
     )
 }

@@ -199,3 +199,28 @@ fn a_parameter_of_the_other_scheme_is_refused() {
     );
     assert!(m.contains("alpha"), "{m}");
 }
+
+#[test]
+fn a_perturbation_gives_either_a_translation_or_a_twist() {
+    // `amplitude` sizes a mode by its largest translation (m), `twist` by its
+    // largest rotation (rad); both, neither, or a twist beyond 0.5 rad (engine
+    // limit `MAX_PERTURBATION_TWIST`, where a linear mode shape stops being a
+    // sensible start: common practice) are refused on the perturbation's line.
+    let registry = ElementRegistry::with_builtin();
+    for (body, key, needle) in [
+        ("{ mode = 1, amplitude = 0.1, twist = 0.1 }", "dynamics.perturbation", "not both"),
+        ("{ mode = 1 }", "dynamics.perturbation", "`twist`"),
+        ("{ mode = 1, twist = 0.9 }", "dynamics.perturbation.twist", "at most 0.5"),
+        ("{ mode = 1, twist = nan }", "dynamics.perturbation.twist", "finite"),
+    ] {
+        let text = input_text(&format!("duration = 10.0\ntime_step = 0.01\nperturbation = {body}"));
+        let err = input::load_str(Path::new("bad_dynamics.toml"), &text, &registry)
+            .err()
+            .unwrap_or_else(|| panic!("accepted perturbation = {body}"));
+        assert_eq!(err.key, key, "{err}");
+        assert_eq!(err.line, line_of_key(&text, "perturbation"), "{err}");
+        assert!(err.message.contains(needle), "{err}");
+    }
+    let text = input_text("duration = 10.0\ntime_step = 0.01\nperturbation = { mode = 1, twist = 0.05 }");
+    assert!(input::load_str(Path::new("ok.toml"), &text, &registry).is_ok());
+}

@@ -196,8 +196,30 @@ pub struct DynamicsSpec {
     pub wind_ramp: f64,
     /// Damping.
     pub damping: DampingSpec,
-    /// `(mode, amplitude m)` of the initial perturbation.
-    pub perturbation: Option<(usize, f64)>,
+    /// Initial perturbation along a mode.
+    pub perturbation: Option<Perturbation>,
+}
+
+/// Largest rotation a perturbation may put in, rad (0.5 rad ≈ 29°): beyond
+/// it a linear mode shape is no longer a sensible start.
+pub const MAX_PERTURBATION_TWIST: f64 = 0.5;
+
+/// `[dynamics.perturbation]`: a displacement along one mode of the static state.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Perturbation {
+    /// Mode number, 1-based by frequency.
+    pub mode: usize,
+    /// How the mode shape is scaled.
+    pub size: PerturbationSize,
+}
+
+/// Scale of a perturbation.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PerturbationSize {
+    /// Largest nodal translation, m.
+    Translation(f64),
+    /// Largest nodal rotation, rad (for torsional modes).
+    Twist(f64),
 }
 
 impl LoadCase {

@@ -70,4 +70,4 @@ pub use error::{EvalError, SolverError};
 pub use linear::{FactorStats, Factorisation, LinearSolver, SparseDirect};
 pub use load_stepping::{solve_load_path, LoadPathReport, LoadStepSettings};
 pub use newton::{newton_solve, NewtonReport, NewtonSettings, NonlinearSystem};
-pub use sparse::{Assembler, SparsityPattern};
+pub use sparse::{Assembler, CompressedMatrix, SparsityPattern};

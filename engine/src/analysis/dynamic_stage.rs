@@ -12,7 +12,10 @@ use crate::input::Locator;
 use crate::model::{self, Model, DOF_PER_NODE};
 use crate::registry::ElementRegistry;
 use crate::results::{HistoryWriter, Record, ResultsWriter};
-use crate::spec::{DampingSpec, DynamicsSpec, SchemeSpec, SectionSpec};
+use crate::spec::{
+    DampingSpec, DynamicsSpec, Perturbation, PerturbationSize, SchemeSpec, SectionSpec,
+    MAX_PERTURBATION_TWIST,
+};
 use glaze_elements::{ElementContext, NodeState};
 use glaze_solvers::{Integrator, IntegratorSettings, NewtonSettings, Scheme, SecondOrderSystem};
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -92,7 +95,7 @@ pub fn run_dynamic(
         DampingSpec::Fit { modes, .. } => modes[1],
         DampingSpec::Coefficients(..) => 0,
     }
-    .max(dynamics.perturbation.map_or(0, |p| p.0));
+    .max(dynamics.perturbation.map_or(0, |p| p.mode));
     let modes = if needed > 0 {
         let lin = Linearisation::about(&static_model, &state.config)?;
         if needed > lin.mode_capacity() {
@@ -124,16 +127,8 @@ pub fn run_dynamic(
     let mut system =
         DynamicSystem::new(&model, &state.config, rayleigh.mass, rayleigh.stiffness, dynamics.wind_ramp)
             .map_err(|e| GlazeError::Analysis { message: format!("dynamic system: {}", e.message) })?;
-    if let (Some((mode, amplitude)), Some((set, lin))) = (dynamics.perturbation, &modes) {
-        let phi = &set.vectors[mode - 1];
-        let peak = lin
-            .equations
-            .iter()
-            .enumerate()
-            .filter(|(i, _)| i % DOF_PER_NODE < 3)
-            .filter_map(|(_, eq)| eq.map(|q| phi[q].abs()))
-            .fold(0.0, f64::max);
-        let dq: Vec<f64> = phi.iter().map(|x| x * amplitude / peak.max(f64::MIN_POSITIVE)).collect();
+    if let (Some(perturbation), Some((set, lin))) = (dynamics.perturbation, &modes) {
+        let dq = perturbation_increment(&set.vectors[perturbation.mode - 1], &lin.equations, perturbation)?;
         system.set_increment(&dq);
         system.commit();
     }
@@ -150,6 +145,50 @@ pub fn run_dynamic(
         integrate(spec, dynamics, &model, &state.config, system, writer, stop, progress, rayleigh)?;
     summary.modal_damping = modal_damping;
     Ok(summary)
+}
+
+/// The start increment along mode shape `phi` (over the free equations;
+/// `equations[node·6 + d]` maps a nodal DOF to its equation), scaled so
+/// that its largest translation (or rotation, for `Twist`) is the given
+/// size. A translation size that would twist a node by more than
+/// [`MAX_PERTURBATION_TWIST`] is refused: the mode is (nearly) torsional
+/// and its linear shape scaled to metres would wind the conductor up.
+fn perturbation_increment(
+    phi: &[f64],
+    equations: &[Option<usize>],
+    perturbation: Perturbation,
+) -> Result<Vec<f64>, GlazeError> {
+    let peak = |rotational: bool| {
+        equations
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| (i % DOF_PER_NODE >= 3) == rotational)
+            .filter_map(|(_, eq)| eq.map(|q| phi[q].abs()))
+            .fold(0.0, f64::max)
+    };
+    let (translation, rotation) = (peak(false), peak(true));
+    let scale = match perturbation.size {
+        PerturbationSize::Translation(a) => {
+            let scale = a / translation.max(f64::MIN_POSITIVE);
+            if (scale * rotation).abs() > MAX_PERTURBATION_TWIST || translation == 0.0 {
+                return Err(GlazeError::Analysis {
+                    message: format!(
+                        "dynamics.perturbation: mode {} moves its nodes mostly in twist (largest rotation {:.3e} rad per \
+                         {:.3e} m of translation in the mode shape); an amplitude of {a} m would twist it by {:.3} rad. \
+                         Give `twist` (largest rotation, rad) for a torsional mode, or choose a mode with translation \
+                         (`glaze modes` lists them)",
+                        perturbation.mode,
+                        rotation,
+                        translation,
+                        (scale * rotation).abs(),
+                    ),
+                });
+            }
+            scale
+        }
+        PerturbationSize::Twist(t) => t / rotation.max(f64::MIN_POSITIVE),
+    };
+    Ok(phi.iter().map(|x| x * scale).collect())
 }
 
 fn settings(d: &DynamicsSpec) -> IntegratorSettings {

@@ -107,7 +107,9 @@ pub struct RawPerturbation {
     /// Mode number (1-based, by frequency, about the static state).
     pub mode: usize,
     /// Largest translational displacement of the perturbation, in m.
-    pub amplitude: f64,
+    pub amplitude: Option<f64>,
+    /// Largest rotation of the perturbation, in rad (for a torsional mode).
+    pub twist: Option<f64>,
 }
 
 /// `[glaze]`: schema version and a free title.

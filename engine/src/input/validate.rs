@@ -6,8 +6,9 @@ use super::Locator;
 use crate::error::{InputError, InputErrorKind as K};
 use crate::registry::ElementRegistry;
 use crate::spec::{
-    Conductor, DampingSpec, DynamicsSpec, LoadCase, MeshDensity, SchemeSpec, ScreeningSpec, SectionSpec,
-    SolverSpec, SpanSpec, StringingTarget, Support, WindSpec,
+    Conductor, DampingSpec, DynamicsSpec, LoadCase, MeshDensity, Perturbation, PerturbationSize, SchemeSpec,
+    ScreeningSpec, SectionSpec, SolverSpec, SpanSpec, StringingTarget, Support, WindSpec,
+    MAX_PERTURBATION_TWIST,
 };
 use glaze_aero::ice::GLAZE_ICE_DENSITY;
 use glaze_aero::{CoefficientTable, MeanWind, RadialIce, TableOptions, WindProfile, ISA_AIR_DENSITY};
@@ -695,14 +696,43 @@ fn validate_dynamics(d: &super::schema::RawDynamics, loc: &Locator<'_>) -> Resul
                     "mode numbers start at 1",
                 ));
             }
-            if !(p.amplitude.is_finite()) {
-                return Err(loc.error(
-                    K::InvalidValue,
-                    "dynamics.perturbation.amplitude",
-                    "must be a finite displacement in m",
-                ));
-            }
-            Some((p.mode, p.amplitude))
+            let size = match (p.amplitude, p.twist) {
+                (Some(a), None) if a.is_finite() => PerturbationSize::Translation(a),
+                (Some(_), None) => {
+                    return Err(loc.error(
+                        K::InvalidValue,
+                        "dynamics.perturbation.amplitude",
+                        "must be a finite displacement in m",
+                    ))
+                }
+                (None, Some(t)) if t.is_finite() && t.abs() <= MAX_PERTURBATION_TWIST => {
+                    PerturbationSize::Twist(t)
+                }
+                (None, Some(t)) => {
+                    return Err(loc.error(
+                        K::InvalidValue,
+                        "dynamics.perturbation.twist",
+                        format!(
+                            "must be a finite rotation in rad of at most {MAX_PERTURBATION_TWIST} in size, got {t}"
+                        ),
+                    ))
+                }
+                (Some(_), Some(_)) => {
+                    return Err(loc.error(
+                        K::InvalidValue,
+                        "dynamics.perturbation",
+                        "give either `amplitude` (largest translation, m) or `twist` (largest rotation, rad), not both",
+                    ))
+                }
+                (None, None) => {
+                    return Err(loc.error(
+                        K::MissingKey,
+                        "dynamics.perturbation",
+                        "give `amplitude` (largest translation, m) or `twist` (largest rotation, rad)",
+                    ))
+                }
+            };
+            Some(Perturbation { mode: p.mode, size })
         }
     };
     Ok(DynamicsSpec {

@@ -5,8 +5,8 @@
 use super::SecondOrderSystem;
 use crate::newton::norm_inf;
 use crate::{
-    AlphaParameters, FactorStats, LinearSolver, NewtonSettings, Scheme, SolverError, SparseDirect,
-    SparsityPattern,
+    AlphaParameters, CompressedMatrix, FactorStats, LinearSolver, NewtonSettings, Scheme, SolverError,
+    SparseDirect, SparsityPattern,
 };
 
 /// A final step up to this fraction longer than the current step is taken
@@ -195,6 +195,9 @@ pub struct Integrator<S: SecondOrderSystem> {
     k_vals: Vec<f64>,
     d_vals: Vec<f64>,
     s_vals: Vec<f64>,
+    /// The constant M and C without their zero entries, for the products.
+    mass: CompressedMatrix,
+    damping: CompressedMatrix,
     /// Step size of the factor of S held by `solver`, if it holds one.
     factor_h: Option<f64>,
     steps: usize,
@@ -227,7 +230,7 @@ impl<S: SecondOrderSystem> Integrator<S> {
         if let Some(dof) = first_non_finite(&it.a) {
             return Err(SolverError::NonFinite { lambda: f64::NAN, dof });
         }
-        it.system.pattern().mul_vec(it.system.mass(), &it.a, &mut it.ma);
+        it.mass.mul_vec(&it.a, &mut it.ma);
         Ok(it)
     }
 
@@ -256,7 +259,7 @@ impl<S: SecondOrderSystem> Integrator<S> {
             return Err(SolverError::NonFinite { lambda: f64::NAN, dof });
         }
         it.a = a0;
-        it.system.pattern().mul_vec(it.system.mass(), &it.a, &mut it.ma);
+        it.mass.mul_vec(&it.a, &mut it.ma);
         Ok(it)
     }
 
@@ -302,8 +305,10 @@ impl<S: SecondOrderSystem> Integrator<S> {
             }
         }
         let solver = SparseDirect::new(pattern);
+        let mass = CompressedMatrix::from_pattern(pattern, system.mass());
+        let damping = CompressedMatrix::from_pattern(pattern, system.damping());
         let mut cv = vec![0.0; n];
-        pattern.mul_vec(system.damping(), &v0, &mut cv);
+        damping.mul_vec(&v0, &mut cv);
         let zeros = vec![0.0; n];
         let mut g = vec![0.0; n];
         system.set_increment(&zeros);
@@ -340,6 +345,8 @@ impl<S: SecondOrderSystem> Integrator<S> {
             k_vals: vec![0.0; nnz],
             d_vals: vec![0.0; nnz],
             s_vals: vec![0.0; nnz],
+            mass,
+            damping,
             factor_h: None,
             steps: 0,
             rejected: 0,
@@ -604,9 +611,8 @@ impl<S: SecondOrderSystem> Integrator<S> {
                 modified && self.factor_h.is_some_and(|hf| (hf - h).abs() <= SAME_STEP_FRACTION * h);
             let mut have_tangent = !factor_held;
             self.evaluate(t1, have_tangent)?;
-            let pattern = self.system.pattern();
-            pattern.mul_vec(self.system.mass(), &self.a1, &mut self.ma1);
-            pattern.mul_vec(self.system.damping(), &self.v1, &mut self.cv1);
+            self.mass.mul_vec(&self.a1, &mut self.ma1);
+            self.damping.mul_vec(&self.v1, &mut self.cv1);
             self.assemble_residual(am, af)?;
             let r_norm = norm2(&self.r);
             let scale = (1.0 - am).abs() * norm2(&self.ma1)
@@ -735,8 +741,13 @@ fn first_non_finite(v: &[f64]) -> Option<usize> {
     v.iter().position(|x| !x.is_finite())
 }
 
-/// ‖v‖₂, scaled against overflow.
+/// ‖v‖₂: one pass, then a scaled second one only when the plain sum of
+/// squares over- or underflows.
 fn norm2(v: &[f64]) -> f64 {
+    let s: f64 = v.iter().map(|x| x * x).sum();
+    if s.is_finite() && s > 1e-280 {
+        return s.sqrt();
+    }
     let m = norm_inf(v);
     if m == 0.0 || !m.is_finite() {
         return m;

@@ -5,4 +5,4 @@ mod assembly;
 mod pattern;
 
 pub use assembly::Assembler;
-pub use pattern::SparsityPattern;
+pub use pattern::{CompressedMatrix, SparsityPattern};

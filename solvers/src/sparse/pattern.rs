@@ -174,6 +174,64 @@ impl SparsityPattern {
     }
 }
 
+/// The entries of a matrix on a [`SparsityPattern`] that are not zero, in
+/// compressed columns: for repeated products with a constant matrix that
+/// fills little of its pattern (a lumped mass on the stiffness pattern).
+#[derive(Debug, Clone, PartialEq)]
+pub struct CompressedMatrix {
+    n: usize,
+    col_ptr: Vec<usize>,
+    row_idx: Vec<usize>,
+    values: Vec<f64>,
+}
+
+impl CompressedMatrix {
+    /// The non-zero entries of `values` (one per entry of `pattern`).
+    ///
+    /// # Panics
+    /// If `values.len() != pattern.nnz()`.
+    pub fn from_pattern(pattern: &SparsityPattern, values: &[f64]) -> Self {
+        assert_eq!(values.len(), pattern.nnz(), "values length");
+        let mut col_ptr = Vec::with_capacity(pattern.n + 1);
+        let (mut row_idx, mut kept) = (Vec::new(), Vec::new());
+        col_ptr.push(0);
+        for j in 0..pattern.n {
+            for k in pattern.col_ptr[j]..pattern.col_ptr[j + 1] {
+                if values[k] != 0.0 {
+                    row_idx.push(pattern.row_idx[k]);
+                    kept.push(values[k]);
+                }
+            }
+            col_ptr.push(row_idx.len());
+        }
+        Self { n: pattern.n, col_ptr, row_idx, values: kept }
+    }
+
+    /// Stored (non-zero) entries.
+    pub fn nnz(&self) -> usize {
+        self.values.len()
+    }
+
+    /// y = A x.
+    ///
+    /// # Panics
+    /// On length mismatch.
+    pub fn mul_vec(&self, x: &[f64], y: &mut [f64]) {
+        assert_eq!(x.len(), self.n, "x length");
+        assert_eq!(y.len(), self.n, "y length");
+        y.fill(0.0);
+        for (j, &xj) in x.iter().enumerate() {
+            if xj == 0.0 {
+                continue;
+            }
+            let range = self.col_ptr[j]..self.col_ptr[j + 1];
+            for (&i, &a) in self.row_idx[range.clone()].iter().zip(&self.values[range]) {
+                y[i] += a * xj;
+            }
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -243,6 +301,20 @@ mod tests {
         assert_eq!(p.value_index(5, 0), None);
         let empty = SparsityPattern::from_dof_groups(0, std::iter::empty());
         assert_eq!((empty.dim(), empty.nnz()), (0, 0));
+    }
+
+    #[test]
+    fn compressed_matrix_keeps_the_non_zeros_and_multiplies_alike() {
+        let groups: Vec<Vec<Option<usize>>> = vec![vec![Some(0), Some(2)], vec![Some(1), Some(2)]];
+        let p = SparsityPattern::from_dof_groups(3, groups.iter().map(|g| g.as_slice()));
+        let values: Vec<f64> = (0..p.nnz()).map(|k| if k % 2 == 0 { k as f64 + 1.0 } else { 0.0 }).collect();
+        let c = CompressedMatrix::from_pattern(&p, &values);
+        assert_eq!(c.nnz(), values.iter().filter(|v| **v != 0.0).count());
+        let x = [1.0, -2.0, 0.5];
+        let (mut y, mut z) = ([0.0; 3], [0.0; 3]);
+        p.mul_vec(&values, &x, &mut y);
+        c.mul_vec(&x, &mut z);
+        assert_eq!(y, z);
     }
 
     #[test]
