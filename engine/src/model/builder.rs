@@ -78,6 +78,7 @@ fn build_row(
     let mut elements = Vec::new();
     let mut spans = Vec::new();
     let mut restrained = Vec::new();
+    let mut support_name: BTreeMap<usize, String> = BTreeMap::new();
     let mut uses_rotation = Vec::new();
     let mut stringing_load = Vec::new();
     let mut case_load = Vec::new();
@@ -132,6 +133,8 @@ fn build_row(
         }
         restrained[first] = [true; DOF_PER_NODE];
         restrained[first + n_el] = [true; DOF_PER_NODE];
+        support_name.insert(first, spec.supports[s.from].name.clone());
+        support_name.insert(first + n_el, spec.supports[s.to].name.clone());
 
         let ell = chain.unstretched_length / n_el as f64;
         let span_ice = spec.load_case.ice_on(i);
@@ -255,7 +258,14 @@ fn build_row(
         spans,
         strings: Vec::new(),
         phase_names: Vec::new(),
+        support_labels: support_nodes
+            .iter()
+            .map(|a| support_name.get(a).cloned().unwrap_or_default())
+            .collect(),
         support_nodes,
+        conductor_rated_strength: spec.conductors.iter().map(|c| c.rated_strength).collect(),
+        towers: Vec::new(),
+        ground_profile: Vec::new(),
         groups,
         stringing_load,
         case_load,

@@ -74,6 +74,17 @@ pub struct Model {
     pub strings: Vec<StringMesh>,
     /// Restrained nodes, in the order of `/static/support_force`.
     pub support_nodes: Vec<usize>,
+    /// What each restrained node is, in the same order: the support's name
+    /// in a row; tower and phase (with `leg k` for V-string legs, `spring x`
+    /// for the ground end of a tower-flexibility spring) in a section.
+    pub support_labels: Vec<String>,
+    /// Rated (breaking) strength of each conductor type, by the index
+    /// [`SpanMesh::conductor`] uses, in N.
+    pub conductor_rated_strength: Vec<f64>,
+    /// Towers of a section in chainage order: name and chainage, m (empty for a row).
+    pub towers: Vec<(String, f64)>,
+    /// Ground of a section's route: (chainage m, elevation m) points (empty if none given).
+    pub ground_profile: Vec<(f64, f64)>,
     /// Named node-index groups written to `/model/groups`.
     pub groups: BTreeMap<String, Vec<usize>>,
     /// Nodal loads of the stringing state (bare weight), length `6 × nodes`, in N and N·m.

@@ -60,6 +60,8 @@ struct Mesh {
     bare_conductor: Vec<Option<f64>>,
     /// Per element: part of a device (weighed only in the load case).
     device: Vec<bool>,
+    /// Tower and wire of each restrained node, for reports.
+    support_label: BTreeMap<usize, String>,
     /// Consistent loads of the weight on curved conductor elements
     /// `(node, dof, value at stringing, case/stringing weight ratio)`.
     curvature: Vec<(usize, usize, f64, f64)>,
@@ -323,13 +325,18 @@ pub(super) fn build_section(
         for t in 0..towers.len() {
             let tower = &towers[t];
             let key = format!("towers[{t}]");
-            let fix = |mesh: &mut Mesh, node: usize| -> Result<(), InputError> {
+            let fix = |mesh: &mut Mesh, node: usize, label: String| -> Result<(), InputError> {
                 match tower.stiffness {
-                    None => mesh.restrained[node] = [true, true, true, false, false, false],
+                    None => {
+                        mesh.restrained[node] = [true, true, true, false, false, false];
+                        mesh.support_label.insert(node, label);
+                    }
                     Some(k) => {
                         for (d, kd) in k.iter().enumerate() {
                             let ground = mesh.node(mesh.nodes[node] + Vector3::ith(d, 1.0));
                             mesh.restrained[ground] = [true; DOF_PER_NODE];
+                            mesh.support_label
+                                .insert(ground, format!("{label} spring {}", ["x", "y", "z"][d]));
                             let spring = Link::new(
                                 [node, ground],
                                 1.0,
@@ -344,7 +351,7 @@ pub(super) fn build_section(
             };
             let y = mesh.node(yoke[t]);
             match string_of(t) {
-                None => fix(&mut mesh, y)?,
+                None => fix(&mut mesh, y, format!("{} {}", tower.name, phase.name))?,
                 Some(s) => {
                     // Force on the yoke from the conductors and half the string.
                     let mut f = Vector3::zeros();
@@ -366,9 +373,13 @@ pub(super) fn build_section(
                     };
                     let mut hinges = Vec::new();
                     let mut elements = Vec::new();
-                    for top in &legs {
+                    for (leg, top) in legs.iter().enumerate() {
                         let hinge = mesh.node(*top);
-                        fix(&mut mesh, hinge)?;
+                        let label = match legs.len() {
+                            1 => format!("{} {}", tower.name, phase.name),
+                            _ => format!("{} {} leg {}", tower.name, phase.name, leg + 1),
+                        };
+                        fix(&mut mesh, hinge, label)?;
                         let length = (yoke[t] - top).norm();
                         // Share of the pull along this leg (equal legs of a V share the vertical pull).
                         let axis = (top - yoke[t]) / length;
@@ -557,7 +568,7 @@ pub(super) fn build_section(
         d.device.build(&mut site).map_err(|e| invalid(&d.key, format!("{}: {e}", d.kind)))?;
     }
 
-    finish(spec, mesh, spans, strings, groups)
+    finish(spec, section, mesh, spans, strings, groups)
 }
 
 /// The section as devices see it while they are built.
@@ -650,6 +661,7 @@ impl DeviceSite for Site<'_> {
 /// Numbering, supports, groups and the weights of both states.
 fn finish(
     spec: &SectionSpec,
+    section: &TensionSection,
     mesh: Mesh,
     spans: Vec<SpanMesh>,
     strings: Vec<StringMesh>,
@@ -698,6 +710,8 @@ fn finish(
     let dofs = DofMap::new(&free);
     let support_nodes: Vec<usize> = (0..n).filter(|&a| mesh.restrained[a].iter().any(|&r| r)).collect();
     groups.insert("support".to_string(), support_nodes.clone());
+    let support_labels =
+        support_nodes.iter().map(|a| mesh.support_label.get(a).cloned().unwrap_or_default()).collect();
     groups.insert(
         "strings".to_string(),
         strings.iter().flat_map(|s| s.hinges.iter().copied().chain([s.yoke])).collect(),
@@ -714,6 +728,10 @@ fn finish(
             .as_ref()
             .map_or(Vec::new(), |s| s.phases.iter().map(|p| p.name.clone()).collect()),
         support_nodes,
+        conductor_rated_strength: spec.conductors.iter().map(|c| c.rated_strength).collect(),
+        support_labels,
+        towers: section.towers.iter().map(|t| (t.name.clone(), t.chainage)).collect(),
+        ground_profile: section.ground_profile.clone(),
         groups,
         stringing_load,
         case_load,

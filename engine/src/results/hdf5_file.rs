@@ -15,7 +15,7 @@ use std::path::{Path, PathBuf};
 /// Value of the root attribute `format`.
 pub const FORMAT_NAME: &str = "glaze-results";
 /// Value of the root attribute `format_version`.
-pub const FORMAT_VERSION: u32 = 1;
+pub const FORMAT_VERSION: u32 = 2;
 
 /// A results file being written.
 pub struct ResultsWriter {
@@ -106,6 +106,61 @@ impl ResultsWriter {
             let idx: Array1<i64> = nodes.iter().map(|&v| v as i64).collect();
             dataset(&groups, name, idx.view(), "1", t)?;
         }
+        let strings = |v: &mut dyn Iterator<Item = &str>| -> Array1<VarLenUnicode> { v.map(text).collect() };
+        let labels = strings(&mut model.support_labels.iter().map(String::as_str));
+        dataset(&g, "support_label", labels.view(), "1", t)?;
+        let phases = strings(&mut model.phase_names.iter().map(String::as_str));
+        dataset(&g, "phase_names", phases.view(), "1", t)?;
+        let towers = g.create_group("towers").map_err(|e| err(t, e))?;
+        let names = strings(&mut model.towers.iter().map(|(n, _)| n.as_str()));
+        dataset(&towers, "name", names.view(), "1", t)?;
+        let chainage: Array1<f64> = model.towers.iter().map(|(_, c)| *c).collect();
+        write_f64(&towers, "chainage", chainage.view().into_dyn(), "m", t)?;
+        let ground = Array2::from_shape_fn((model.ground_profile.len(), 2), |(i, k)| {
+            [model.ground_profile[i].0, model.ground_profile[i].1][k]
+        });
+        write_f64(&g, "ground_profile", ground.view().into_dyn(), "m", t)?;
+
+        let spans = g.create_group("spans").map_err(|e| err(t, e))?;
+        let mut offset = vec![0i64];
+        let mut flat = Vec::new();
+        for s in &model.spans {
+            flat.extend(s.nodes.iter().map(|&a| a as i64));
+            offset.push(flat.len() as i64);
+        }
+        dataset(&spans, "nodes", Array1::from(flat).view(), "1", t)?;
+        dataset(&spans, "node_offset", Array1::from(offset).view(), "1", t)?;
+        let p = model.spans.len();
+        let elements = Array2::from_shape_fn((p, 2), |(i, k)| {
+            let r = &model.spans[i].elements;
+            [r.start, r.end][k] as i64
+        });
+        dataset(&spans, "elements", elements.view(), "1", t)?;
+        let column = |f: &dyn Fn(&crate::model::SpanMesh) -> i64| -> Array1<i64> {
+            model.spans.iter().map(f).collect()
+        };
+        dataset(&spans, "route_span", column(&|s| s.route_span as i64).view(), "1", t)?;
+        dataset(&spans, "phase", column(&|s| s.phase.map_or(-1, |p| p as i64)).view(), "1", t)?;
+        dataset(&spans, "subconductor", column(&|s| s.subconductor as i64).view(), "1", t)?;
+        let rated: Array1<f64> = model
+            .spans
+            .iter()
+            .map(|s| model.conductor_rated_strength.get(s.conductor).copied().unwrap_or(0.0))
+            .collect();
+        write_f64(&spans, "rated_strength", rated.view().into_dyn(), "N", t)?;
+
+        let st = g.create_group("strings").map_err(|e| err(t, e))?;
+        let k = model.strings.len();
+        let col = |f: &dyn Fn(&crate::model::StringMesh) -> i64| -> Array1<i64> {
+            model.strings.iter().map(f).collect()
+        };
+        dataset(&st, "tower", col(&|s| s.tower as i64).view(), "1", t)?;
+        dataset(&st, "phase", col(&|s| s.phase as i64).view(), "1", t)?;
+        dataset(&st, "yoke", col(&|s| s.yoke as i64).view(), "1", t)?;
+        let legs = Array2::from_shape_fn((k, 2), |(i, j)| {
+            model.strings[i].elements.get(j).map_or(-1, |&e| e as i64)
+        });
+        dataset(&st, "elements", legs.view(), "1", t)?;
         Ok(())
     }
 
