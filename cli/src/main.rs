@@ -2,7 +2,8 @@
 //! reports; all the work is in `glaze-engine`.
 //!
 //! Exit codes: 0 success; 1 internal error; 2 bad input (file, key and line
-//! are printed); 3 the analysis did not converge; 4 results could not be written.
+//! are printed); 3 the analysis did not converge; 4 results could not be written;
+//! 5 `glaze post` refused the results file (incomplete, other format version, unreadable).
 
 mod commands;
 
@@ -69,6 +70,19 @@ enum Command {
         #[arg(long, value_enum, default_value = "table")]
         format: commands::ScreenFormat,
     },
+    /// Clearances, galloping envelope, loads and fatigue from a results
+    /// file of `glaze run`; settings from the `[post]` table of its input.
+    Post {
+        /// Results file (HDF5) written by `glaze run`.
+        results: PathBuf,
+        /// Output folder for report.json and the CSV tables (default:
+        /// `<results stem>_post` beside the file).
+        #[arg(long, short)]
+        out: Option<PathBuf>,
+        /// Report on a file that is not marked complete (an interrupted run).
+        #[arg(long)]
+        allow_incomplete: bool,
+    },
 }
 
 fn main() -> ExitCode {
@@ -80,6 +94,20 @@ fn main() -> ExitCode {
         )
         .with_writer(std::io::stderr)
         .try_init();
+    if let Command::Post { results, out, allow_incomplete } = &cli.command {
+        return match commands::post(results, out.as_ref(), *allow_incomplete, cli.quiet) {
+            Ok(()) => ExitCode::SUCCESS,
+            Err(e) => {
+                eprintln!("error: {e}");
+                ExitCode::from(match e {
+                    glaze_report::ReportError::Settings(_) => 2,
+                    glaze_report::ReportError::Output { .. } => 4,
+                    glaze_report::ReportError::Analysis(_) => 3,
+                    _ => 5,
+                })
+            }
+        };
+    }
     let result = match &cli.command {
         Command::Check { file } => commands::check(file, cli.quiet),
         Command::Static { file, out } => commands::run_static(file, out, cli.quiet),
@@ -88,6 +116,7 @@ fn main() -> ExitCode {
         }
         Command::Run { file, out } => commands::run(file, out, cli.quiet),
         Command::Screen { file, format } => commands::run_screen(file, *format),
+        Command::Post { .. } => unreachable!("handled above"),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

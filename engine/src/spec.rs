@@ -154,6 +154,8 @@ pub struct SectionSpec {
     pub screening: Option<ScreeningSpec>,
     /// Time simulation settings, when given.
     pub dynamics: Option<DynamicsSpec>,
+    /// Post-processing settings (defaults when `[post]` is absent).
+    pub post: crate::input::post::PostSpec,
 }
 
 /// Integration scheme.

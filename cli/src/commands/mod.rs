@@ -14,12 +14,14 @@ macro_rules! out_part {
 
 mod check;
 mod modes;
+mod post;
 mod run;
 mod screen;
 mod static_cmd;
 
 pub use check::check;
 pub use modes::{run_modes, SolverChoice};
+pub use post::post;
 pub use run::run;
 pub use screen::{run_screen, ScreenFormat};
 pub use static_cmd::run_static;

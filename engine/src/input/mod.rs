@@ -3,6 +3,7 @@
 //! [`crate::SectionSpec`] whose every value has been checked.
 
 pub mod locate;
+pub mod post;
 pub mod schema;
 mod validate;
 mod validate_section;

@@ -57,6 +57,8 @@ pub struct RawInput {
     pub screening: Option<RawScreening>,
     /// Time simulation (needed by `glaze run`).
     pub dynamics: Option<RawDynamics>,
+    /// Post-processing settings (`glaze post`).
+    pub post: Option<super::post::RawPost>,
 }
 
 /// `[dynamics]`: nonlinear time simulation from the static state.

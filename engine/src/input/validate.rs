@@ -498,6 +498,7 @@ pub(super) fn validate(
         None => None,
         Some(d) => Some(validate_dynamics(d, loc)?),
     };
+    let post = super::post::validate_post(raw.post.as_ref(), loc)?;
     let gravity = match raw.load_case.gravity {
         Some(g) => positive(loc, "load_case.gravity", g, "m/s²")?,
         None => STANDARD_GRAVITY,
@@ -561,6 +562,7 @@ pub(super) fn validate(
         solver,
         screening,
         dynamics,
+        post,
     })
 }
 

@@ -1,0 +1,242 @@
+//! One pass over the histories of a results file, keeping only the compact
+//! series a report needs: the motion of every station (bundle centre) of
+//! every span across and along the vertical, the closest approach of every
+//! pair of wires and of every wire to the ground, the largest conductor
+//! tension of every span, the string tensions and the support forces.
+
+use crate::results_file::{ModelInfo, ResultsFile};
+use crate::ReportError;
+use glaze_post::clearance::{min_vertical_clearance, ClearanceSearch, GroundProfile, PolylineSet};
+
+/// Records read from the file at a time.
+const BLOCK: usize = 128;
+
+/// The stations of one route span of one phase (or of a row's span).
+#[derive(Debug, Clone)]
+pub struct SpanStations {
+    /// Route span, 0-based.
+    pub route_span: usize,
+    /// Phase (`None` in a row).
+    pub phase: Option<usize>,
+    /// Node lists of the subconductors, station by station (equal lengths).
+    pub subconductors: Vec<Vec<usize>>,
+    /// Horizontal unit vector across the span (z × plan direction).
+    pub across: [f64; 2],
+    /// Chainage (distance from the span's first end in plan) of each station at rest, m.
+    pub distance: Vec<f64>,
+    /// Per record, per station: displacement across, m.
+    pub y: Vec<Vec<f64>>,
+    /// Per record, per station: vertical displacement, m.
+    pub z: Vec<Vec<f64>>,
+}
+
+/// Closest approach of two wires at one record.
+#[derive(Debug, Clone, Copy)]
+pub struct Approach {
+    /// Distance, m.
+    pub distance: f64,
+    /// Point on the first wire, m.
+    pub point: [f64; 3],
+}
+
+/// The compact series of one results file.
+#[derive(Debug, Clone)]
+pub struct Series {
+    /// Output times, s.
+    pub time: Vec<f64>,
+    /// Stations of every (route span, phase).
+    pub spans: Vec<SpanStations>,
+    /// Pairs of phases `(i, j)`, i < j, with their closest approach per record.
+    pub pairs: Vec<((usize, usize), Vec<Approach>)>,
+    /// Per phase, the lowest clearance above ground per record (empty without a profile).
+    pub ground: Vec<(usize, Vec<Approach>)>,
+    /// Per meshed span (model order), the largest conductor axial force per record, N.
+    pub span_tension: Vec<Vec<f64>>,
+    /// Per string, the largest leg axial force per record, N.
+    pub string_tension: Vec<Vec<f64>>,
+    /// Per support, the force per record (global X, Y, Z), N.
+    pub support_force: Vec<Vec<[f64; 3]>>,
+    /// Segments in the clearance search and the segment pairs it tested, summed over records.
+    pub clearance_work: (usize, u64),
+}
+
+fn group_stations(model: &ModelInfo) -> Vec<SpanStations> {
+    let mut out: Vec<SpanStations> = Vec::new();
+    for s in &model.spans {
+        let slot = out.iter_mut().find(|g| g.route_span == s.route_span && g.phase == s.phase);
+        match slot {
+            Some(g) if g.subconductors[0].len() == s.nodes.len() => g.subconductors.push(s.nodes.clone()),
+            Some(_) => {} // different station count: the first subconductor stands for the bundle
+            None => {
+                let (a, b) = (
+                    model.static_position[s.nodes[0]],
+                    model.static_position[*s.nodes.last().unwrap_or(&s.nodes[0])],
+                );
+                let (dx, dy) = (b[0] - a[0], b[1] - a[1]);
+                let l = dx.hypot(dy).max(f64::MIN_POSITIVE);
+                let dir = [dx / l, dy / l];
+                let distance = s
+                    .nodes
+                    .iter()
+                    .map(|&n| {
+                        let p = model.static_position[n];
+                        (p[0] - a[0]) * dir[0] + (p[1] - a[1]) * dir[1]
+                    })
+                    .collect();
+                out.push(SpanStations {
+                    route_span: s.route_span,
+                    phase: s.phase,
+                    subconductors: vec![s.nodes.clone()],
+                    across: [-dir[1], dir[0]],
+                    distance,
+                    y: Vec::new(),
+                    z: Vec::new(),
+                });
+            }
+        }
+    }
+    out.sort_by_key(|g| (g.phase, g.route_span));
+    out
+}
+
+/// Polylines of each phase: one per meshed span of its subconductors.
+fn phase_polylines(model: &ModelInfo) -> Vec<(usize, Vec<Vec<usize>>)> {
+    let mut phases: Vec<(usize, Vec<Vec<usize>>)> = Vec::new();
+    for s in &model.spans {
+        let Some(p) = s.phase else { continue };
+        match phases.iter_mut().find(|(q, _)| *q == p) {
+            Some((_, lines)) => lines.push(s.nodes.clone()),
+            None => phases.push((p, vec![s.nodes.clone()])),
+        }
+    }
+    phases.sort_by_key(|(p, _)| *p);
+    phases
+}
+
+fn to_set(lines: &[Vec<usize>], pos: &[[f64; 3]]) -> Result<PolylineSet, ReportError> {
+    let polylines: Vec<Vec<[f64; 3]>> = lines.iter().map(|l| l.iter().map(|&n| pos[n]).collect()).collect();
+    PolylineSet::from_polylines(&polylines)
+        .map_err(|e| ReportError::Analysis(format!("clearance geometry: {e}")))
+}
+
+/// Reads every record of `file` once and keeps the series of [`Series`].
+///
+/// # Errors
+/// [`ReportError`] for a file whose histories cannot be read or do not match its model.
+pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
+    let model = &file.model;
+    let t_count = file.records();
+    if t_count == 0 {
+        return Err(ReportError::Analysis(format!(
+            "{} has no /dynamic records: post-processing needs a time simulation (`glaze run`)",
+            file.path().display()
+        )));
+    }
+    let n = model.node_count();
+    let mut spans = group_stations(model);
+    let phases = phase_polylines(model);
+    let profile = if model.ground_profile.len() >= 2 {
+        Some(
+            GroundProfile::new([0.0, 0.0], [1.0, 0.0], &model.ground_profile)
+                .map_err(|e| ReportError::Analysis(format!("ground profile: {e}")))?,
+        )
+    } else {
+        None
+    };
+    let pair_ids: Vec<(usize, usize)> =
+        (0..phases.len()).flat_map(|i| (i + 1..phases.len()).map(move |j| (i, j))).collect();
+    let mut sets: Vec<PolylineSet> =
+        phases.iter().map(|(_, lines)| to_set(lines, &model.static_position)).collect::<Result<_, _>>()?;
+    let mut searches: Vec<ClearanceSearch> = pair_ids.iter().map(|_| ClearanceSearch::new()).collect();
+    let mut pairs: Vec<((usize, usize), Vec<Approach>)> =
+        pair_ids.iter().map(|&(i, j)| ((phases[i].0, phases[j].0), Vec::with_capacity(t_count))).collect();
+    let mut ground: Vec<(usize, Vec<Approach>)> = match profile {
+        Some(_) => phases.iter().map(|(p, _)| (*p, Vec::with_capacity(t_count))).collect(),
+        None => Vec::new(),
+    };
+    let mut span_tension = vec![Vec::with_capacity(t_count); model.spans.len()];
+    let mut string_tension = vec![Vec::with_capacity(t_count); model.strings.len()];
+    let s_count = model.support_nodes.len();
+    let mut support_force = vec![Vec::with_capacity(t_count); s_count];
+    let e_count = model.element_kind.len();
+    let mut pos = model.static_position.clone();
+    let mut work = (sets.iter().map(PolylineSet::segment_count).sum::<usize>(), 0u64);
+
+    let mut start = 0;
+    while start < t_count {
+        let end = (start + BLOCK).min(t_count);
+        let disp = file.displacement(start..end)?;
+        let axial = file.axial_force(start..end)?;
+        let forces = file.support_force(start..end)?;
+        for r in 0..end - start {
+            let d = &disp[r * n * 3..(r + 1) * n * 3];
+            for (k, p) in pos.iter_mut().enumerate() {
+                let s = model.static_position[k];
+                *p = [s[0] + d[3 * k], s[1] + d[3 * k + 1], s[2] + d[3 * k + 2]];
+            }
+            for g in spans.iter_mut() {
+                let m = g.subconductors.len() as f64;
+                let stations = g.subconductors[0].len();
+                let (mut ys, mut zs) = (Vec::with_capacity(stations), Vec::with_capacity(stations));
+                for i in 0..stations {
+                    let (mut y, mut z) = (0.0, 0.0);
+                    for sub in &g.subconductors {
+                        let k = sub[i];
+                        y += d[3 * k] * g.across[0] + d[3 * k + 1] * g.across[1];
+                        z += d[3 * k + 2];
+                    }
+                    ys.push(y / m);
+                    zs.push(z / m);
+                }
+                g.y.push(ys);
+                g.z.push(zs);
+            }
+            for (set, (_, lines)) in sets.iter_mut().zip(&phases) {
+                let flat: Vec<[f64; 3]> = lines.iter().flat_map(|l| l.iter().map(|&k| pos[k])).collect();
+                set.set_positions(&flat)
+                    .map_err(|e| ReportError::Analysis(format!("clearance geometry: {e}")))?;
+            }
+            for (q, &(i, j)) in pair_ids.iter().enumerate() {
+                let hit = searches[q].search(&sets[i], &sets[j]);
+                work.1 += searches[q].stats().segment_pairs;
+                let a = hit.map_or(Approach { distance: f64::INFINITY, point: [f64::NAN; 3] }, |h| {
+                    Approach { distance: h.distance, point: h.point_a }
+                });
+                pairs[q].1.push(a);
+            }
+            if let Some(profile) = &profile {
+                for (q, set) in sets.iter().enumerate() {
+                    let hit = min_vertical_clearance(set, profile);
+                    ground[q]
+                        .1
+                        .push(hit.map_or(Approach { distance: f64::INFINITY, point: [f64::NAN; 3] }, |h| {
+                            Approach { distance: h.clearance, point: h.point }
+                        }));
+                }
+            }
+            let f = &axial[r * e_count..(r + 1) * e_count];
+            for (k, s) in model.spans.iter().enumerate() {
+                span_tension[k]
+                    .push(f[s.elements.0..s.elements.1].iter().fold(f64::NEG_INFINITY, |a, &b| a.max(b)));
+            }
+            for (k, s) in model.strings.iter().enumerate() {
+                string_tension[k].push(s.elements.iter().map(|&e| f[e]).fold(f64::NEG_INFINITY, f64::max));
+            }
+            let sf = &forces[r * s_count * 3..(r + 1) * s_count * 3];
+            for (k, series) in support_force.iter_mut().enumerate() {
+                series.push([sf[3 * k], sf[3 * k + 1], sf[3 * k + 2]]);
+            }
+        }
+        start = end;
+    }
+    Ok(Series {
+        time: file.time.clone(),
+        spans,
+        pairs,
+        ground,
+        span_tension,
+        string_tension,
+        support_force,
+        clearance_work: work,
+    })
+}
