@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Installs what glaze needs beyond the Rust toolchain, only when missing:
 # the HDF5 C library (Debian's libhdf5-dev) and, for the cross-check tests,
-# Python's numpy, scipy, h5py and rainflow.
+# Python's numpy, scipy, h5py, rainflow and meshio.
 set -euo pipefail
 
 need_apt=()
@@ -18,8 +18,8 @@ if [ ${#need_apt[@]} -gt 0 ]; then
     DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "${need_apt[@]}" >/dev/null
 fi
 
-if ! python3 -c "import numpy, scipy, h5py, rainflow" >/dev/null 2>&1; then
-    echo "setup: installing numpy scipy h5py rainflow with pip" >&2
-    python3 -m pip install --quiet numpy scipy h5py rainflow 2>/dev/null \
-        || python3 -m pip install --quiet --break-system-packages numpy scipy h5py rainflow
+if ! python3 -c "import numpy, scipy, h5py, rainflow, meshio" >/dev/null 2>&1; then
+    echo "setup: installing numpy scipy h5py rainflow meshio with pip" >&2
+    python3 -m pip install --quiet numpy scipy h5py rainflow meshio 2>/dev/null \
+        || python3 -m pip install --quiet --break-system-packages numpy scipy h5py rainflow meshio
 fi

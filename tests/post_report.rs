@@ -69,9 +69,11 @@ fn close(a: f64, b: f64, what: &str) {
 fn report_figures_match_an_independent_recomputation() {
     let dir = tempfile::tempdir().unwrap();
     let h5 = run_example(dir.path());
-    let out =
-        post_process(&h5, &PostOptions { out_dir: Some(dir.path().join("post")), allow_incomplete: false })
-            .unwrap();
+    let out = post_process(
+        &h5,
+        &PostOptions { out_dir: Some(dir.path().join("post")), allow_incomplete: false, xdmf: true },
+    )
+    .unwrap();
     let r = &out.report;
     assert_eq!(r.steady_from, "given");
     assert!(r.caution.contains("licensed engineer"));
@@ -99,6 +101,8 @@ fn report_figures_match_an_independent_recomputation() {
     let names: Vec<String> =
         out.written.iter().map(|p| p.file_name().unwrap().to_string_lossy().into_owned()).collect();
     assert_eq!(names.last().map(String::as_str), Some("report.json"));
+    // The viewer description beside the results file (read back by meshio in xdmf_meshio.rs).
+    assert!(h5.with_extension("xdmf").exists() && names.contains(&"gallop.xdmf".to_string()));
     let json: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(dir.path().join("post/report.json")).unwrap()).unwrap();
     assert_eq!(json["spans"][0]["span"], 1);
@@ -117,7 +121,7 @@ fn an_incomplete_file_is_refused_unless_allowed() {
     let writer = ResultsWriter::create(&dir.path().join("cut.h5"), &text).unwrap();
     run_dynamic(&spec, &registry, &writer, &AtomicBool::new(false), &mut |_| {}).unwrap();
     let partial = writer.keep_incomplete(0.0).unwrap();
-    let opts = PostOptions { out_dir: Some(dir.path().join("post")), allow_incomplete: false };
+    let opts = PostOptions { out_dir: Some(dir.path().join("post")), allow_incomplete: false, xdmf: true };
     match post_process(&partial, &opts) {
         Err(e @ ReportError::Incomplete { .. }) => {
             let m = e.to_string();
@@ -141,7 +145,7 @@ fn another_format_or_another_file_kind_is_refused() {
         f.new_attr::<u32>().create("format_version").unwrap().write_scalar(&1u32).unwrap();
         f.new_attr::<u32>().create("complete").unwrap().write_scalar(&1u32).unwrap();
     }
-    let opts = PostOptions { out_dir: Some(dir.path().join("post")), allow_incomplete: false };
+    let opts = PostOptions { out_dir: Some(dir.path().join("post")), allow_incomplete: false, xdmf: true };
     let m = post_process(&old, &opts).unwrap_err().to_string();
     assert!(m.contains("format version 1") && m.contains("rerun"), "{m}");
     let other = dir.path().join("other.h5");

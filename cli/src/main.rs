@@ -82,6 +82,9 @@ enum Command {
         /// Report on a file that is not marked complete (an interrupted run).
         #[arg(long)]
         allow_incomplete: bool,
+        /// Do not write RESULT.xdmf (the viewer description) beside the results file.
+        #[arg(long)]
+        no_xdmf: bool,
     },
 }
 
@@ -94,8 +97,8 @@ fn main() -> ExitCode {
         )
         .with_writer(std::io::stderr)
         .try_init();
-    if let Command::Post { results, out, allow_incomplete } = &cli.command {
-        return match commands::post(results, out.as_ref(), *allow_incomplete, cli.quiet) {
+    if let Command::Post { results, out, allow_incomplete, no_xdmf } = &cli.command {
+        return match commands::post(results, out.as_ref(), *allow_incomplete, !*no_xdmf, cli.quiet) {
             Ok(()) => ExitCode::SUCCESS,
             Err(e) => {
                 eprintln!("error: {e}");

@@ -65,3 +65,4 @@ pub enum ReportError {
         message: String,
     },
 }
+pub mod xdmf;

@@ -18,6 +18,9 @@ pub struct PostOptions {
     pub out_dir: Option<PathBuf>,
     /// Report on a file not marked complete.
     pub allow_incomplete: bool,
+    /// Write `RESULT.xdmf` (and its `RESULT.xdmf.h5`) beside the results
+    /// file for a viewer; skipped for an incomplete file.
+    pub xdmf: bool,
 }
 
 /// What `glaze post` produced.
@@ -141,6 +144,13 @@ pub fn post_process(results: &Path, options: &PostOptions) -> Result<PostOutcome
         let path = dir.join(name);
         write_atomic(&path, &text)?;
         written.push(path);
+    }
+    if options.xdmf && file.complete {
+        let target = results.with_extension("xdmf");
+        crate::xdmf::write_xdmf(results, &target)
+            .map_err(|e| ReportError::Output { path: target.clone(), message: e.to_string() })?;
+        written.push(PathBuf::from(format!("{}.h5", target.display())));
+        written.push(target);
     }
     let json = serde_json::to_string_pretty(&report)
         .map_err(|e| ReportError::Output { path: json_path.clone(), message: e.to_string() })?;

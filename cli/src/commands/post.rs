@@ -15,9 +15,10 @@ pub fn post(
     results: &Path,
     out: Option<&PathBuf>,
     allow_incomplete: bool,
+    xdmf: bool,
     quiet: bool,
 ) -> Result<(), ReportError> {
-    let outcome = post_process(results, &PostOptions { out_dir: out.cloned(), allow_incomplete })?;
+    let outcome = post_process(results, &PostOptions { out_dir: out.cloned(), allow_incomplete, xdmf })?;
     let r = &outcome.report;
     if quiet {
         return Ok(());
