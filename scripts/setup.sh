@@ -1,12 +1,23 @@
 #!/usr/bin/env bash
 # Installs what glaze needs beyond the Rust toolchain, only when missing:
-# the HDF5 C library (Debian's libhdf5-dev) and, for the cross-check tests,
+# the HDF5 C library (Debian's libhdf5-dev), fontconfig, FreeType and a font
+# for the PNG plots and, for the cross-check tests,
 # Python's numpy, scipy, h5py, rainflow and meshio.
 set -euo pipefail
 
 need_apt=()
 if ! pkg-config --exists hdf5 2>/dev/null && [ ! -e /usr/include/hdf5/serial/hdf5.h ] && [ ! -e /usr/include/hdf5.h ]; then
     need_apt+=(libhdf5-dev)
+fi
+# PNG plots draw their text through fontconfig and FreeType, with a system font.
+if ! pkg-config --exists fontconfig 2>/dev/null && [ ! -e /usr/include/fontconfig/fontconfig.h ]; then
+    need_apt+=(libfontconfig1-dev)
+fi
+if ! pkg-config --exists freetype2 2>/dev/null && [ ! -e /usr/include/freetype2/ft2build.h ]; then
+    need_apt+=(libfreetype-dev)
+fi
+if [ -z "$(find /usr/share/fonts /usr/local/share/fonts \( -name '*.ttf' -o -name '*.otf' \) -print -quit 2>/dev/null)" ]; then
+    need_apt+=(fonts-dejavu-core)
 fi
 command -v pkg-config >/dev/null 2>&1 || need_apt+=(pkg-config)
 command -v python3 >/dev/null 2>&1 || need_apt+=(python3 python3-pip)

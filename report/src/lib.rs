@@ -11,6 +11,7 @@
 #![deny(missing_docs)]
 
 pub mod output;
+pub mod plots;
 pub mod report;
 pub mod results_file;
 pub mod series;

@@ -152,6 +152,7 @@ pub fn post_process(results: &Path, options: &PostOptions) -> Result<PostOutcome
         written.push(PathBuf::from(format!("{}.h5", target.display())));
         written.push(target);
     }
+    written.extend(crate::plots::write_plots(&report, &series, &dir)?);
     let json = serde_json::to_string_pretty(&report)
         .map_err(|e| ReportError::Output { path: json_path.clone(), message: e.to_string() })?;
     write_atomic(&json_path, &json)?;
