@@ -44,7 +44,7 @@ fn write_atomic(path: &Path, text: &str) -> Result<(), ReportError> {
     std::fs::rename(&partial, path).map_err(fail)
 }
 
-fn clearance_csv(report: &Report, series: &Series, model: &crate::results_file::ModelInfo) -> String {
+fn clearance_csv(series: &Series, model: &crate::results_file::ModelInfo) -> String {
     let mut s = String::from("time_s");
     for ((i, j), _) in &series.pairs {
         let _ = write!(s, ",{}-{}_m", model.phase_name(Some(*i)), model.phase_name(Some(*j)));
@@ -63,7 +63,6 @@ fn clearance_csv(report: &Report, series: &Series, model: &crate::results_file::
         }
         s.push('\n');
     }
-    let _ = report;
     s
 }
 
@@ -136,7 +135,7 @@ pub fn post_process(results: &Path, options: &PostOptions) -> Result<PostOutcome
     let _ = std::fs::remove_file(&json_path);
     let mut written = Vec::new();
     for (name, text) in [
-        ("clearance.csv", clearance_csv(&report, &series, &file.model)),
+        ("clearance.csv", clearance_csv(&series, &file.model)),
         ("envelope.csv", envelope_csv(&report)),
         ("loads.csv", loads_csv(&report)),
         ("fatigue.csv", fatigue_csv(&report)),

@@ -233,6 +233,9 @@ impl ResultsFile {
         let tower = i64s(path, file, "model/strings/tower")?;
         let sphase = i64s(path, file, "model/strings/phase")?;
         let legs = i64s(path, file, "model/strings/elements")?;
+        if sphase.len() != tower.len() || legs.len() != 2 * tower.len() {
+            return Err(h5err(path, "model/strings", "tables of different lengths"));
+        }
         let strings = (0..tower.len())
             .map(|k| {
                 Ok(StringInfo {
@@ -245,9 +248,24 @@ impl ResultsFile {
                 })
             })
             .collect::<Result<Vec<_>, ReportError>>()?;
-        let n = static_position.len();
-        if spans.iter().any(|s| s.nodes.iter().any(|&a| a >= n)) || support_nodes.iter().any(|&a| a >= n) {
-            return Err(h5err(path, "model", "node index beyond the node count"));
+        let (n, e) = (static_position.len(), element_kind.len());
+        if spans.iter().any(|s| s.nodes.len() < 2 || s.nodes.iter().any(|&a| a >= n))
+            || support_nodes.iter().any(|&a| a >= n)
+        {
+            return Err(h5err(
+                path,
+                "model",
+                "a span with fewer than two nodes, or a node index beyond the node count",
+            ));
+        }
+        if spans.iter().any(|s| s.elements.0 >= s.elements.1 || s.elements.1 > e)
+            || strings.iter().any(|s| s.elements.iter().any(|&k| k >= e))
+            || static_axial_force.len() != e
+        {
+            return Err(h5err(path, "model", "an element range or index beyond the element count"));
+        }
+        if support_labels.len() != support_nodes.len() || static_support_force.len() != support_nodes.len() {
+            return Err(h5err(path, "model", "support tables of different lengths"));
         }
         Ok(ModelInfo {
             static_position,
