@@ -3,7 +3,9 @@
 //!
 //! Exit codes: 0 success; 1 internal error; 2 bad input (file, key and line
 //! are printed); 3 the analysis did not converge; 4 results could not be written;
-//! 5 `glaze post` refused the results file (incomplete, other format version, unreadable).
+//! 5 `glaze post` refused the results file (incomplete, other format version, unreadable);
+//! 6 `glaze sweep`: some cases failed, `glaze compare`: some cases are not complete;
+//! 130 stopped by a signal.
 
 mod commands;
 
@@ -86,6 +88,30 @@ enum Command {
         #[arg(long)]
         no_xdmf: bool,
     },
+    /// Run every case of a study (wind speeds, directions, ice cases and
+    /// layouts over one base input) in parallel, each with its report;
+    /// complete cases are skipped, so a rerun finishes a broken sweep.
+    Sweep {
+        /// Study file (TOML).
+        study: PathBuf,
+        /// Run one slice of the cases, I/N (1-based); default: the Slurm
+        /// array task's slice when SLURM_ARRAY_TASK_ID is set, else all.
+        #[arg(long)]
+        shard: Option<String>,
+        /// Cases run at once (default: one per core).
+        #[arg(long, short, default_value_t = 0)]
+        jobs: usize,
+        /// Print the cases of the shard and stop.
+        #[arg(long)]
+        list: bool,
+    },
+    /// Compare the layouts of a study folder written by `glaze sweep`:
+    /// tables, a ranking and amplitude-against-wind plots as compare.md
+    /// and one self-contained compare.html.
+    Compare {
+        /// Study output folder.
+        dir: PathBuf,
+    },
 }
 
 fn main() -> ExitCode {
@@ -97,30 +123,46 @@ fn main() -> ExitCode {
         )
         .with_writer(std::io::stderr)
         .try_init();
-    if let Command::Post { results, out, allow_incomplete, no_xdmf } = &cli.command {
-        return match commands::post(results, out.as_ref(), *allow_incomplete, !*no_xdmf, cli.quiet) {
-            Ok(()) => ExitCode::SUCCESS,
-            Err(e) => {
-                eprintln!("error: {e}");
-                ExitCode::from(match e {
-                    glaze_report::ReportError::Settings(_) => 2,
-                    glaze_report::ReportError::Output { .. } => 4,
-                    glaze_report::ReportError::Analysis(_) => 3,
-                    _ => 5,
-                })
-            }
-        };
-    }
-    let result = match &cli.command {
-        Command::Check { file } => commands::check(file, cli.quiet),
-        Command::Static { file, out } => commands::run_static(file, out, cli.quiet),
+    let q = cli.quiet;
+    match &cli.command {
+        Command::Check { file } => engine_exit(commands::check(file, q)),
+        Command::Static { file, out } => engine_exit(commands::run_static(file, out, q)),
         Command::Modes { file, count, out, method } => {
-            commands::run_modes(file, *count, *method, out, cli.quiet)
+            engine_exit(commands::run_modes(file, *count, *method, out, q))
         }
-        Command::Run { file, out } => commands::run(file, out, cli.quiet),
-        Command::Screen { file, format } => commands::run_screen(file, *format),
-        Command::Post { .. } => unreachable!("handled above"),
-    };
+        Command::Run { file, out } => engine_exit(commands::run(file, out, q)),
+        Command::Screen { file, format } => engine_exit(commands::run_screen(file, *format)),
+        Command::Post { results, out, allow_incomplete, no_xdmf } => {
+            match commands::post(results, out.as_ref(), *allow_incomplete, !*no_xdmf, q) {
+                Ok(()) => ExitCode::SUCCESS,
+                Err(e) => {
+                    eprintln!("error: {e}");
+                    ExitCode::from(match e {
+                        glaze_report::ReportError::Settings(_) => 2,
+                        glaze_report::ReportError::Output { .. } => 4,
+                        glaze_report::ReportError::Analysis(_) => 3,
+                        _ => 5,
+                    })
+                }
+            }
+        }
+        Command::Sweep { study, shard, jobs, list } => {
+            match commands::sweep(study, shard.as_deref(), *jobs, *list, q) {
+                Ok(commands::SweepEnd::Complete) => ExitCode::SUCCESS,
+                Ok(commands::SweepEnd::Failed) => ExitCode::from(6),
+                Ok(commands::SweepEnd::Stopped) => ExitCode::from(130),
+                Err(e) => study_error(&e),
+            }
+        }
+        Command::Compare { dir } => match commands::compare(dir, q) {
+            Ok(true) => ExitCode::SUCCESS,
+            Ok(false) => ExitCode::from(6),
+            Err(e) => study_error(&e),
+        },
+    }
+}
+
+fn engine_exit(result: Result<(), glaze_engine::GlazeError>) -> ExitCode {
     match result {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
@@ -128,4 +170,14 @@ fn main() -> ExitCode {
             ExitCode::from(commands::exit_code(&e))
         }
     }
+}
+
+fn study_error(e: &glaze_study::StudyError) -> ExitCode {
+    eprintln!("error: {e}");
+    ExitCode::from(match e {
+        glaze_study::StudyError::Input(_) | glaze_study::StudyError::Shard(_) => 2,
+        glaze_study::StudyError::Output { .. } => 4,
+        glaze_study::StudyError::Folder { .. } => 5,
+        glaze_study::StudyError::Internal(_) => 1,
+    })
 }

@@ -129,7 +129,7 @@ pub fn solve_load_path(
                 report.cutbacks += 1;
                 step *= 0.5;
                 just_cut = true;
-                tracing::warn!(lambda, target, next_step = step, error = %e, "load step failed, cutting back");
+                tracing::info!(lambda, target, next_step = step, error = %e, "load step failed, cutting back");
                 if step < steps.min_step {
                     return Err(SolverError::StepTooSmall { lambda, step, last: Box::new(e) });
                 }

@@ -13,18 +13,22 @@ macro_rules! out_part {
 }
 
 mod check;
+mod compare;
 mod modes;
 mod post;
 mod run;
 mod screen;
 mod static_cmd;
+mod sweep;
 
 pub use check::check;
+pub use compare::compare;
 pub use modes::{run_modes, SolverChoice};
 pub use post::post;
 pub use run::run;
 pub use screen::{run_screen, ScreenFormat};
 pub use static_cmd::run_static;
+pub use sweep::{sweep, SweepEnd};
 
 use glaze_engine::{GlazeError, InputErrorKind};
 

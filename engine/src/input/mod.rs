@@ -77,7 +77,8 @@ impl<'a> Locator<'a> {
         }
     }
 
-    fn toml_error(&self, e: &toml::de::Error) -> InputError {
+    /// A located error for a TOML parse or schema error of this text.
+    pub fn toml_error(&self, e: &toml::de::Error) -> InputError {
         let message = e.message().trim().to_string();
         let offset = e.span().map(|s| s.start).unwrap_or(0);
         let line = line_of(self.text, offset);
