@@ -1,8 +1,9 @@
 #!/usr/bin/env bash
 # Installs what glaze needs beyond the Rust toolchain, only when missing:
 # the HDF5 C library (Debian's libhdf5-dev), fontconfig, FreeType and a font
-# for the PNG plots and, for the cross-check tests,
-# Python's numpy, scipy, h5py, rainflow and meshio.
+# for the PNG plots; for the tests, Slurm and MUNGE (a one-node cluster the
+# cluster test starts itself), Chromium (the comparison page in a browser)
+# and Python's numpy, scipy, h5py, rainflow and meshio.
 set -euo pipefail
 
 need_apt=()
@@ -20,6 +21,11 @@ if [ -z "$(find /usr/share/fonts /usr/local/share/fonts \( -name '*.ttf' -o -nam
     need_apt+=(fonts-dejavu-core)
 fi
 command -v pkg-config >/dev/null 2>&1 || need_apt+=(pkg-config)
+# The cluster test runs its own one-node Slurm controller with MUNGE.
+[ -x /usr/sbin/slurmctld ] && [ -x /usr/sbin/slurmd ] && command -v sbatch >/dev/null 2>&1 || need_apt+=(slurm-wlm)
+[ -x /usr/sbin/munged ] || need_apt+=(munge)
+# The comparison page is checked in a headless browser.
+command -v chromium >/dev/null 2>&1 || need_apt+=(chromium)
 command -v python3 >/dev/null 2>&1 || need_apt+=(python3 python3-pip)
 if [ ${#need_apt[@]} -gt 0 ]; then
     echo "setup: installing ${need_apt[*]} with apt-get" >&2

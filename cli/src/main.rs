@@ -104,6 +104,25 @@ enum Command {
         /// Print the cases of the shard and stop.
         #[arg(long)]
         list: bool,
+        /// Write batch scripts for a cluster scheduler into the study's
+        /// output folder instead of running (`slurm`: array job, gather job
+        /// and submit script).
+        #[arg(long, value_enum)]
+        emit_batch: Option<commands::BatchKind>,
+        /// With --emit-batch: cases per array task.
+        #[arg(long, default_value_t = 2)]
+        cases_per_task: usize,
+        /// With --emit-batch: CPUs per array task (cases run at once in a task).
+        #[arg(long, default_value_t = 1)]
+        cpus_per_task: usize,
+        /// With --emit-batch: wall time of one case on one CPU, minutes, for
+        /// the time limit (default: estimated from the model size and steps).
+        #[arg(long)]
+        minutes_per_case: Option<f64>,
+        /// With --emit-batch: an extra scheduler line, e.g. `--partition=long`
+        /// (repeatable).
+        #[arg(long = "sbatch-option", allow_hyphen_values = true)]
+        sbatch_options: Vec<String>,
     },
     /// Compare the layouts of a study folder written by `glaze sweep`:
     /// tables, a ranking and amplitude-against-wind plots as compare.md
@@ -146,7 +165,28 @@ fn main() -> ExitCode {
                 }
             }
         }
-        Command::Sweep { study, shard, jobs, list } => {
+        Command::Sweep {
+            study,
+            emit_batch: Some(kind),
+            cases_per_task,
+            cpus_per_task,
+            minutes_per_case,
+            sbatch_options,
+            ..
+        } => {
+            let batch = commands::BatchSettings {
+                kind: *kind,
+                cases_per_task: *cases_per_task,
+                cpus_per_task: *cpus_per_task,
+                minutes_per_case: *minutes_per_case,
+                extra: sbatch_options.clone(),
+            };
+            match commands::emit_batch(study, &batch, q) {
+                Ok(()) => ExitCode::SUCCESS,
+                Err(e) => study_error(&e),
+            }
+        }
+        Command::Sweep { study, shard, jobs, list, .. } => {
             match commands::sweep(study, shard.as_deref(), *jobs, *list, q) {
                 Ok(commands::SweepEnd::Complete) => ExitCode::SUCCESS,
                 Ok(commands::SweepEnd::Failed) => ExitCode::from(6),

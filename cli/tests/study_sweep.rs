@@ -7,29 +7,11 @@
 //! The section is `tests/data/two_phase_span.toml` (one span, two phases,
 //! invented for the tests).
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output, Stdio};
+mod common;
+
+use common::*;
+use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
-
-const BIN: &str = env!("CARGO_BIN_EXE_glaze");
-
-fn repo() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("..").canonicalize().expect("repository root")
-}
-
-/// A study of the test section in `dir` (file `NAME.toml`, study name
-/// "test study", so that two files differ only in their output folder),
-/// writing into `dir/output`.
-fn write_study(dir: &Path, name: &str, output: &str, body: &str) -> PathBuf {
-    let base = repo().join("tests/data/two_phase_span.toml");
-    let text = format!(
-        "[study]\nname = \"test study\"\nbase = \"{}\"\noutput = \"{output}\"\n{body}",
-        base.display()
-    );
-    let path = dir.join(format!("{name}.toml"));
-    std::fs::write(&path, text).expect("write the study");
-    path
-}
 
 /// Six cases: two wind speeds and three layouts, one of them an overlay.
 const SIX_CASES: &str = r#"
@@ -43,76 +25,6 @@ remove = [2]
 move = [{ device = 1, distance = 150.0 }]
 add = [{ type = "lumped_mass", span = 1, distance = 60.0, phase = "B", mass = 10.0 }]
 "#;
-
-fn glaze(args: &[&str]) -> Output {
-    Command::new(BIN).args(args).output().expect("run glaze")
-}
-
-fn text(o: &Output) -> String {
-    format!("{}{}", String::from_utf8_lossy(&o.stdout), String::from_utf8_lossy(&o.stderr))
-}
-
-fn python(script: &str, args: &[&Path]) -> serde_json::Value {
-    let path = repo().join("tests/python").join(script);
-    let out = Command::new("python3")
-        .arg(&path)
-        .args(args)
-        .output()
-        .unwrap_or_else(|e| panic!("python3 is needed for {script} ({e}); run scripts/setup.sh"));
-    assert!(
-        out.status.success(),
-        "{script} failed (h5py and numpy come from scripts/setup.sh):\n{}",
-        text(&out)
-    );
-    serde_json::from_slice(&out.stdout).expect("the script prints JSON")
-}
-
-fn case_ids(out: &Path) -> Vec<String> {
-    let mut ids: Vec<String> = std::fs::read_dir(out.join("cases"))
-        .expect("cases folder")
-        .map(|e| e.expect("entry").file_name().to_string_lossy().to_string())
-        .collect();
-    ids.sort();
-    ids
-}
-
-fn complete_ids(out: &Path) -> Vec<String> {
-    case_ids(out).into_iter().filter(|id| out.join("cases").join(id).join("case.json").exists()).collect()
-}
-
-/// A case's report without the path of its results file (which names the folder).
-fn report_without_path(path: &Path) -> serde_json::Value {
-    let mut v: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(path).expect("report.json")).expect("report JSON");
-    v.as_object_mut().expect("object").remove("results_file");
-    v
-}
-
-/// Every case of `a` and `b`: identical results files (bit for bit, all
-/// datasets and attributes but the wall time), inputs, summaries and reports.
-fn assert_same_cases(a: &Path, b: &Path) {
-    let ids = case_ids(a);
-    assert_eq!(ids, case_ids(b), "the two sweeps hold different cases");
-    assert!(!ids.is_empty());
-    for id in &ids {
-        let (ca, cb) = (a.join("cases").join(id), b.join("cases").join(id));
-        let eq = python("h5_equal.py", &[&ca.join("result.h5"), &cb.join("result.h5")]);
-        assert_eq!(eq["equal"], true, "case {id}: results differ: {eq}");
-        assert!(eq["datasets"].as_u64().unwrap() > 20, "case {id}: too few datasets compared: {eq}");
-        for f in ["input.toml", "case.json"] {
-            assert_eq!(
-                std::fs::read(ca.join(f)).expect("file"),
-                std::fs::read(cb.join(f)).expect("file"),
-                "case {id}: {f} differs"
-            );
-        }
-        assert_eq!(
-            report_without_path(&ca.join("post/report.json")),
-            report_without_path(&cb.join("post/report.json")),
-            "case {id}: report differs"
-        );
-    }
-}
 
 #[test]
 fn three_shards_as_separate_processes_equal_one_unsharded_sweep() {

@@ -31,8 +31,10 @@ pub enum CaseStatus {
     Complete,
     /// `failed.json` says why it failed.
     Failed,
-    /// Not run (or stopped before it finished).
+    /// Not run yet.
     Missing,
+    /// Started but stopped before it finished (a partial results file is there).
+    Incomplete,
     /// Ran with an input the study no longer generates.
     Stale,
 }
@@ -238,6 +240,9 @@ pub fn gather(dir: &Path) -> Result<Comparison, StudyError> {
             (Some(s), _) if s.input_hash == m.input_hash => (CaseStatus::Complete, Some(s), None),
             (Some(_), _) => (CaseStatus::Stale, None, None),
             (None, Some(f)) => (CaseStatus::Failed, None, Some(format!("{}: {}", f.stage, f.message))),
+            (None, None) if cdir.join("result.h5.partial").exists() || cdir.join("result.h5").exists() => {
+                (CaseStatus::Incomplete, None, None)
+            }
             (None, None) => (CaseStatus::Missing, None, None),
         };
         cases.push(CaseRow {
@@ -318,7 +323,10 @@ fn markdown(c: &Comparison, plots: &[(String, String)]) -> String {
             let why = match m.status {
                 CaseStatus::Failed => format!("failed: {}", m.failure.as_deref().unwrap_or("")),
                 CaseStatus::Stale => "stale: the study changed after it ran; run the sweep again".into(),
-                _ => "missing: not run yet, or stopped; run the sweep again".into(),
+                CaseStatus::Incomplete => {
+                    "incomplete: stopped before it finished; run the sweep again".into()
+                }
+                _ => "missing: not run yet; run the sweep again".into(),
             };
             let _ = writeln!(s, "- `{}`: {why}", m.id);
         }

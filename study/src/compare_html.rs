@@ -61,7 +61,8 @@ pub(crate) fn page(c: &Comparison, charts: &[(String, String, String)]) -> Strin
             let why = match m.status {
                 CaseStatus::Failed => format!("failed: {}", m.failure.as_deref().unwrap_or("")),
                 CaseStatus::Stale => "stale: the study changed after it ran".into(),
-                _ => "missing: not run yet, or stopped".into(),
+                CaseStatus::Incomplete => "incomplete: stopped before it finished".into(),
+                _ => "missing: not run yet".into(),
             };
             let _ = writeln!(s, "<li><code>{}</code>: {}</li>", esc(&m.id), esc(&why));
         }

@@ -15,10 +15,12 @@
 //! cases/ID/case.json      its summary, written last: the case is complete
 //! cases/ID/failed.json    why it failed, if it did
 //! compare.md, compare.html, compare.json, compare_*.svg   glaze compare
+//! slurm/                  sweep.sbatch, gather.sbatch, submit.sh, logs/ (--emit-batch slurm)
 //! ```
 
 #![deny(missing_docs)]
 
+pub mod batch;
 pub mod cases;
 pub mod compare;
 mod compare_html;
@@ -28,6 +30,7 @@ pub mod spec;
 pub mod summary;
 pub mod sweep;
 
+pub use batch::{emit_slurm, BatchOptions, BatchScripts};
 pub use compare::{compare_study, Comparison};
 pub use shard::Shard;
 pub use spec::{load_study, Case, Study};

@@ -148,6 +148,21 @@ pub struct Case {
     pub input: String,
 }
 
+/// `path` with `.` and `..` resolved lexically (the base is canonical already).
+fn normalise(path: &Path) -> PathBuf {
+    let mut out = PathBuf::new();
+    for c in path.components() {
+        match c {
+            std::path::Component::CurDir => {}
+            std::path::Component::ParentDir => {
+                out.pop();
+            }
+            other => out.push(other),
+        }
+    }
+    out
+}
+
 /// Whether `name` is usable in a folder name: ASCII letters, digits, `_` and `-`.
 fn is_plain_name(name: &str) -> bool {
     !name.is_empty() && name.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
@@ -216,7 +231,7 @@ pub fn load_study(path: &Path) -> Result<Study, StudyError> {
     if raw.study.name.trim().is_empty() {
         return Err(located(&loc, "study.name", "give the study a name"));
     }
-    let base = study_dir.join(&raw.study.base);
+    let base = normalise(&study_dir.join(&raw.study.base));
     let base_text = std::fs::read_to_string(&base).map_err(|e| {
         located(&loc, "study.base", format!("cannot read the base input {}: {e}", base.display()))
     })?;
@@ -225,7 +240,7 @@ pub fn load_study(path: &Path) -> Result<Study, StudyError> {
         Some(o) if o.trim().is_empty() => {
             return Err(located(&loc, "study.output", "the output folder is empty"))
         }
-        Some(o) => study_dir.join(o),
+        Some(o) => normalise(&study_dir.join(o)),
         None => {
             let stem = path.file_stem().map_or("study".into(), |s| s.to_string_lossy().to_string());
             study_dir.join(stem)

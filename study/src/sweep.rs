@@ -122,7 +122,7 @@ pub fn case_dir(out: &Path, id: &str) -> PathBuf {
 pub struct CaseFailure {
     /// Case identifier.
     pub id: String,
-    /// `input`, `analysis`, `results` or `report`.
+    /// `input`, `analysis`, `results`, `report` or `internal`.
     pub stage: String,
     /// The error message.
     pub message: String,
@@ -195,8 +195,9 @@ fn run_case(case: &Case, out: &Path, stop: &AtomicBool) -> Result<CaseResult, St
         }
     };
     if summary.interrupted {
-        drop(writer);
-        clear(&dir);
+        // Kept as `result.h5.partial`, marked incomplete: the comparison
+        // names the case, and the next sweep runs it again.
+        let _ = writer.keep_incomplete(start.elapsed().as_secs_f64());
         return Ok(CaseResult::Stopped);
     }
     if let Err(e) = writer.finish(start.elapsed().as_secs_f64()) {
@@ -215,8 +216,9 @@ fn run_case(case: &Case, out: &Path, stop: &AtomicBool) -> Result<CaseResult, St
 }
 
 /// Runs the cases of `options.shard` that are not complete. `stop` ends the
-/// sweep at the next output interval of every running case (those cases are
-/// cleared and count as stopped); `on_event` hears of every case.
+/// sweep at the next output interval of every running case (those cases
+/// keep their records in `result.h5.partial`, marked incomplete, and count
+/// as stopped); `on_event` hears of every case.
 ///
 /// # Errors
 /// [`StudyError`] when the study folder or a case folder cannot be written;
@@ -263,7 +265,26 @@ pub fn run_sweep(
                     return (c.id.clone(), Ok(CaseResult::Stopped));
                 }
                 on_event(CaseEvent::Started(c.id.clone()));
-                let r = run_case(c, out, stop);
+                // A fault of glaze in one case must not end the other cases of an overnight sweep.
+                let r = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| run_case(c, out, stop)))
+                    .unwrap_or_else(|p| {
+                        let what = p
+                            .downcast_ref::<String>()
+                            .cloned()
+                            .or_else(|| p.downcast_ref::<&str>().map(|s| s.to_string()))
+                            .unwrap_or_else(|| "unknown".into());
+                        let f = CaseFailure {
+                            id: c.id.clone(),
+                            stage: "internal".into(),
+                            message: format!("glaze stopped on an internal fault ({what}); please report it"),
+                        };
+                        let dir = case_dir(out, &c.id);
+                        clear(&dir);
+                        if let Ok(json) = serde_json::to_string_pretty(&f) {
+                            let _ = write_atomic(&dir.join("failed.json"), json.as_bytes());
+                        }
+                        Ok(CaseResult::Failed(f))
+                    });
                 match &r {
                     Ok(CaseResult::Done(t)) => on_event(CaseEvent::Finished(c.id.clone(), *t)),
                     Ok(CaseResult::Failed(f)) => on_event(CaseEvent::Failed(c.id.clone(), f.message.clone())),

@@ -28,7 +28,7 @@ pub use post::post;
 pub use run::run;
 pub use screen::{run_screen, ScreenFormat};
 pub use static_cmd::run_static;
-pub use sweep::{sweep, SweepEnd};
+pub use sweep::{emit_batch, sweep, BatchKind, BatchSettings, SweepEnd};
 
 use glaze_engine::{GlazeError, InputErrorKind};
 

@@ -3,7 +3,9 @@
 //! complete ones; `--shard I/N` or a Slurm array task runs one slice.
 
 use super::CAUTION;
-use glaze_study::{load_study, run_sweep, CaseEvent, Shard, StudyError, SweepOptions};
+use glaze_study::{
+    emit_slurm, load_study, run_sweep, BatchOptions, CaseEvent, Shard, StudyError, SweepOptions,
+};
 use indicatif::{ProgressBar, ProgressStyle};
 use std::io::IsTerminal;
 use std::path::Path;
@@ -134,4 +136,59 @@ pub fn sweep(
     } else {
         SweepEnd::Complete
     })
+}
+
+/// Cluster schedulers `--emit-batch` writes scripts for.
+#[derive(Clone, Copy, Debug, clap::ValueEnum)]
+pub enum BatchKind {
+    /// Slurm: an array job, a gather job after it, and a submit script.
+    Slurm,
+}
+
+/// Settings of `--emit-batch`.
+pub struct BatchSettings {
+    /// Scheduler.
+    pub kind: BatchKind,
+    /// Cases per array task.
+    pub cases_per_task: usize,
+    /// CPUs per task.
+    pub cpus_per_task: usize,
+    /// Wall time per case on one CPU, minutes.
+    pub minutes_per_case: Option<f64>,
+    /// Extra `#SBATCH` lines.
+    pub extra: Vec<String>,
+}
+
+/// Runs `glaze sweep --emit-batch`.
+pub fn emit_batch(file: &Path, s: &BatchSettings, quiet: bool) -> Result<(), StudyError> {
+    let study = load_study(file)?;
+    let glaze = std::env::current_exe()
+        .map_err(|e| StudyError::Internal(format!("cannot find the glaze binary: {e}")))?;
+    let BatchKind::Slurm = s.kind;
+    let options = BatchOptions {
+        cases_per_task: s.cases_per_task,
+        cpus_per_task: s.cpus_per_task,
+        minutes_per_case: s.minutes_per_case,
+        glaze,
+        extra: s.extra.clone(),
+    };
+    let b = emit_slurm(&study, &options)?;
+    if !quiet {
+        out!(
+            "study \"{}\": {} cases in {} array tasks of at most {} cases, {} CPU(s) each; {:.0} s per case on one CPU ({}), time limit {:.0} min per task",
+            study.name,
+            study.cases.len(),
+            b.tasks,
+            s.cases_per_task,
+            s.cpus_per_task,
+            b.per_case_s,
+            if s.minutes_per_case.is_some() { "given" } else { "estimated from the model size" },
+            b.time_limit_s / 60.0
+        );
+        out!("wrote {}", b.sweep.display());
+        out!("wrote {}", b.gather.display());
+        out!("wrote {}", b.submit.display());
+        out!("submit both with: bash {}", b.submit.display());
+    }
+    Ok(())
 }
