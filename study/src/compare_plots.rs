@@ -11,6 +11,17 @@ use plotters::prelude::*;
 
 /// Chart size, pixels.
 const SIZE: (u32, u32) = (860, 520);
+/// Line colours, told apart in print and by most colour-blind readers.
+const COLOURS: [RGBColor; 8] = [
+    RGBColor(0, 90, 181),
+    RGBColor(220, 50, 32),
+    RGBColor(0, 150, 80),
+    RGBColor(140, 60, 170),
+    RGBColor(230, 140, 0),
+    RGBColor(90, 90, 90),
+    RGBColor(0, 170, 200),
+    RGBColor(150, 90, 40),
+];
 
 type Line = (String, Vec<(f64, f64)>);
 
@@ -67,12 +78,14 @@ fn draw(title: &str, y_label: &str, lines: &[Line]) -> Result<String, String> {
             .map_err(|e| e.to_string())?;
         chart
             .configure_mesh()
+            .light_line_style(RGBColor(238, 238, 238))
+            .label_style(("sans-serif", 14))
             .x_desc("mean wind speed at reference height (m/s)")
             .y_desc(y_label)
             .draw()
             .map_err(|e| e.to_string())?;
         for (i, (name, pts)) in lines.iter().enumerate() {
-            let colour = Palette99::pick(i).to_rgba();
+            let colour = COLOURS[i % COLOURS.len()].to_rgba();
             let style = ShapeStyle { color: colour, filled: true, stroke_width: 2 };
             chart
                 .draw_series(LineSeries::new(pts.iter().copied(), style))
