@@ -40,6 +40,26 @@ pub struct InputError {
     pub kind: InputErrorKind,
 }
 
+/// A located input warning: the value is legal but physically implausible.
+/// Shown as `file:line: key: message`, like [`InputError`].
+#[derive(Clone, Debug, PartialEq)]
+pub struct InputWarning {
+    /// The input file.
+    pub file: PathBuf,
+    /// 1-based line of the key.
+    pub line: usize,
+    /// The key path, e.g. `phases[0].horizontal_tension`.
+    pub key: String,
+    /// What is implausible, the threshold and its source.
+    pub message: String,
+}
+
+impl std::fmt::Display for InputWarning {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}:{}: {}: {}", self.file.display(), self.line, self.key, self.message)
+    }
+}
+
 /// Every error the engine can return.
 #[derive(Debug, thiserror::Error)]
 pub enum GlazeError {

@@ -20,6 +20,6 @@ pub mod results;
 pub mod spec;
 pub mod summary;
 
-pub use error::{GlazeError, InputError, InputErrorKind};
+pub use error::{GlazeError, InputError, InputErrorKind, InputWarning};
 pub use registry::ElementRegistry;
 pub use spec::SectionSpec;

@@ -156,6 +156,8 @@ pub struct SectionSpec {
     pub dynamics: Option<DynamicsSpec>,
     /// Post-processing settings (defaults when `[post]` is absent).
     pub post: crate::input::post::PostSpec,
+    /// Legal but implausible values, located (every command prints them).
+    pub warnings: Vec<crate::error::InputWarning>,
 }
 
 /// Integration scheme.

@@ -9,6 +9,7 @@ use std::path::Path;
 pub fn check(file: &Path, quiet: bool) -> Result<(), GlazeError> {
     let registry = ElementRegistry::with_builtin();
     let spec = input::load(file, &registry)?;
+    super::print_warnings(&spec, quiet);
     let model = model::build(&spec, &registry)?;
     if quiet {
         return Ok(());

@@ -30,7 +30,49 @@ pub use screen::{run_screen, ScreenFormat};
 pub use static_cmd::run_static;
 pub use sweep::{emit_batch, sweep, BatchKind, BatchSettings, SweepEnd};
 
-use glaze_engine::{GlazeError, InputErrorKind};
+use glaze_engine::{GlazeError, InputErrorKind, SectionSpec};
+use std::path::Path;
+
+/// Prints the input's warnings on stderr, one a line:
+/// `warning: FILE:LINE: KEY: message` (nothing with `--quiet`).
+pub fn print_warnings(spec: &SectionSpec, quiet: bool) {
+    if quiet {
+        return;
+    }
+    for w in &spec.warnings {
+        eprintln!("warning: {w}");
+    }
+}
+
+/// After a failed command: no results file at `out`, and no partial file
+/// either (one left by a failed `finish` may already say `complete = 1`).
+pub fn remove_results(out: &Path) {
+    let _ = std::fs::remove_file(out);
+    let _ = std::fs::remove_file(glaze_engine::results::partial_path(out));
+}
+
+/// A results error on one line, a full disk said plainly.
+pub fn one_line(e: GlazeError) -> GlazeError {
+    match e {
+        GlazeError::Results { path, message } => GlazeError::Results {
+            message: glaze_engine::results::preflight::describe_write_error(message),
+            path,
+        },
+        e => e,
+    }
+}
+
+/// A write error that stopped a run once its file was open: the file is
+/// removed and the message says so.
+pub fn write_failed(e: GlazeError, out: &Path) -> GlazeError {
+    remove_results(out);
+    match one_line(e) {
+        GlazeError::Results { path, message } => {
+            GlazeError::Results { message: format!("{message}; the unfinished file was removed"), path }
+        }
+        e => e,
+    }
+}
 
 /// Writes to stdout; a closed pipe ends the program with exit code 0.
 pub fn write_stdout(args: std::fmt::Arguments<'_>) {

@@ -54,6 +54,7 @@ pub fn run_modes(
     let registry = ElementRegistry::with_builtin();
     let outcome = (|| {
         let spec = input::load(file, &registry)?;
+        super::print_warnings(&spec, quiet);
         let model = model::build(&spec, &registry)?;
         let dofs = model.dofs.len();
         if count == 0 || count > dofs {
@@ -83,8 +84,8 @@ pub fn run_modes(
         Ok(v) => v,
         Err(e) => {
             // No results file at the target path after a failed run.
-            let _ = std::fs::remove_file(out);
-            return Err(e);
+            super::remove_results(out);
+            return Err(super::one_line(e));
         }
     };
     if quiet {

@@ -3,8 +3,8 @@
 
 use super::CAUTION;
 use glaze_engine::analysis::dynamic_stage::{run_dynamic, Progress};
-use glaze_engine::results::ResultsWriter;
-use glaze_engine::{input, ElementRegistry, GlazeError};
+use glaze_engine::results::{preflight, ResultsWriter};
+use glaze_engine::{input, model, ElementRegistry, GlazeError};
 use indicatif::{ProgressBar, ProgressStyle};
 use std::io::IsTerminal;
 use std::path::Path;
@@ -18,6 +18,7 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
     let start = Instant::now();
     let registry = ElementRegistry::with_builtin();
     let spec = input::load(file, &registry)?;
+    super::print_warnings(&spec, quiet);
     let stop = Arc::new(AtomicBool::new(false));
     {
         let stop = stop.clone();
@@ -28,10 +29,16 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
             }
         });
     }
+    // Before any work: the folder takes the file and the disk has room
+    // for the histories (building the model is cheap next to the run).
+    if let Some(dynamics) = &spec.dynamics {
+        let model = model::build(&spec, &registry)?;
+        preflight::check(out, preflight::run_bytes(&model, dynamics))?;
+    }
     let writer = match ResultsWriter::create(out, &spec.source) {
         Ok(w) => w,
         Err(e) => {
-            let _ = std::fs::remove_file(out);
+            super::remove_results(out);
             return Err(e);
         }
     };
@@ -72,8 +79,7 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
         Ok(s) => s,
         Err(e) => {
             drop(writer);
-            let _ = std::fs::remove_file(out);
-            return Err(e);
+            return Err(super::write_failed(e, out));
         }
     };
     if let Some(b) = &bar {
@@ -89,7 +95,7 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
         );
         std::process::exit(130);
     }
-    let path = writer.finish(start.elapsed().as_secs_f64())?;
+    let path = writer.finish(start.elapsed().as_secs_f64()).map_err(|e| super::write_failed(e, out))?;
     if !quiet {
         let wall = start.elapsed().as_secs_f64();
         out!(

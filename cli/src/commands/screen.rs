@@ -20,6 +20,7 @@ pub enum ScreenFormat {
 pub fn run_screen(file: &Path, format: ScreenFormat) -> Result<(), GlazeError> {
     let registry = ElementRegistry::with_builtin();
     let spec = input::load(file, &registry)?;
+    super::print_warnings(&spec, false);
     let r = run_screening(&spec, &registry)?;
     match format {
         ScreenFormat::Table => print_table(file, &r),

@@ -13,6 +13,7 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
     let registry = ElementRegistry::with_builtin();
     let outcome = (|| {
         let spec = input::load(file, &registry)?;
+        super::print_warnings(&spec, quiet);
         let model = model::build(&spec, &registry)?;
         let writer = ResultsWriter::create(out, &spec.source)?;
         writer.write_model(&model)?;
@@ -28,8 +29,8 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
         Err(e) => {
             // A failed run leaves no results file at the target path, so no
             // stale file from an earlier run can be taken for this one.
-            let _ = std::fs::remove_file(out);
-            return Err(e);
+            super::remove_results(out);
+            return Err(super::one_line(e));
         }
     };
     if quiet {

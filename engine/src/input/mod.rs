@@ -3,6 +3,7 @@
 //! [`crate::SectionSpec`] whose every value has been checked.
 
 pub mod locate;
+mod plausibility;
 pub mod post;
 pub mod schema;
 mod validate;
@@ -10,7 +11,7 @@ mod validate_section;
 
 pub(crate) use validate::round_section;
 
-use crate::error::{InputError, InputErrorKind};
+use crate::error::{InputError, InputErrorKind, InputWarning};
 use crate::registry::ElementRegistry;
 use crate::spec::SectionSpec;
 use locate::{line_of, KeyPath, SpanIndex};
@@ -28,7 +29,9 @@ pub fn load(path: &Path, registry: &ElementRegistry) -> Result<SectionSpec, Inpu
     load_str(path, &text, registry)
 }
 
-/// Parses and validates input text that came from `path`.
+/// Parses and validates input text that came from `path`. Legal but
+/// implausible values are kept as located warnings in
+/// [`SectionSpec::warnings`].
 pub fn load_str(path: &Path, text: &str, registry: &ElementRegistry) -> Result<SectionSpec, InputError> {
     let locator = Locator::new(path, text);
     let raw: schema::RawInput = toml::from_str(text).map_err(|e| locator.toml_error(&e))?;
@@ -74,6 +77,16 @@ impl<'a> Locator<'a> {
             key: key.to_string(),
             message: message.into(),
             kind,
+        }
+    }
+
+    /// A warning at `key`.
+    pub fn warning(&self, key: &str, message: impl Into<String>) -> InputWarning {
+        InputWarning {
+            file: self.path.to_path_buf(),
+            line: self.line(key),
+            key: key.to_string(),
+            message: message.into(),
         }
     }
 

@@ -41,6 +41,22 @@ fn table_at(loc: &Locator<'_>, key: &str, name: &str) -> Result<Arc<CoefficientT
         .map_err(|e| loc.error(K::InvalidValue, key, format!("aerodynamic table: {e}")))
 }
 
+/// Largest conductor diameter, in m: beyond it a diameter is a typing
+/// error (common practice: the largest conductors are under 0.1 m).
+const MAX_DIAMETER: f64 = 1.0;
+
+/// Largest radial ice thickness, in m: beyond it a thickness is a typing
+/// error (common practice: recorded accretions stay well under 0.3 m).
+const MAX_ICE_THICKNESS: f64 = 1.0;
+
+/// Longest span, in m: beyond it a span is a typing error (common
+/// practice: the longest river and fjord crossings are about 5 km).
+pub(super) const MAX_SPAN_LENGTH: f64 = 20_000.0;
+
+/// Most elements in one span: beyond it a mesh is a typing error (common
+/// practice: 1e5 elements of 1 cm cover a 1 km span).
+const MAX_ELEMENTS_PER_SPAN: usize = 100_000;
+
 /// Standard gravity, in m/s² (CGPM 1901, ISO 80000-3).
 pub const STANDARD_GRAVITY: f64 = 9.80665;
 
@@ -90,6 +106,13 @@ pub(super) fn validate(
     for (name, c) in &raw.conductors {
         let key = |field: &str| format!("conductors.{name}.{field}");
         let diameter = positive(loc, &key("diameter"), c.diameter, "m")?;
+        if diameter >= MAX_DIAMETER {
+            return Err(loc.error(
+                K::InvalidValue,
+                &key("diameter"),
+                format!("must be a conductor diameter in m below {MAX_DIAMETER} m, got {diameter}"),
+            ));
+        }
         let mass = positive(loc, &key("mass_per_length"), c.mass_per_length, "kg/m")?;
         let alpha = c.thermal_expansion;
         if !(alpha.is_finite() && (0.0..1e-3).contains(&alpha)) {
@@ -194,12 +217,12 @@ pub(super) fn validate(
             })?;
             let d = supports[to].position - supports[from].position;
             let horizontal = d.x.hypot(d.y);
-            if horizontal <= 1e-3 || horizontal.is_nan() {
+            if !(horizontal > 1e-3 && horizontal <= MAX_SPAN_LENGTH) {
                 return Err(loc.error(
                     K::InvalidValue,
                     &key("to"),
                     format!(
-                        "span from `{}` to `{}` has a horizontal length of {horizontal} m; it must be positive",
+                        "span from `{}` to `{}` has a horizontal length of {horizontal} m; it must be positive and at most {MAX_SPAN_LENGTH} m",
                         s.from, s.to
                     ),
                 ));
@@ -280,11 +303,11 @@ pub(super) fn validate(
     }
     let mesh = match (raw.mesh.elements_per_span, raw.mesh.element_length) {
         (Some(n), None) => {
-            if !(2..=100_000).contains(&n) {
+            if !(2..=MAX_ELEMENTS_PER_SPAN).contains(&n) {
                 return Err(loc.error(
                     K::InvalidValue,
                     "mesh.elements_per_span",
-                    format!("must be between 2 and 100000, got {n}"),
+                    format!("must be between 2 and {MAX_ELEMENTS_PER_SPAN}, got {n}"),
                 ));
             }
             MeshDensity::ElementsPerSpan(n)
@@ -304,6 +327,35 @@ pub(super) fn validate(
             return Err(loc.error(K::MissingKey, "mesh", "give elements_per_span or element_length (m)"))
         }
     };
+    if let MeshDensity::ElementLength(l) = mesh {
+        // Horizontal span lengths, as the builders mesh them.
+        let lengths: Vec<f64> = match &section {
+            Some(sec) => (0..sec.span_count()).map(|i| sec.span_length(i)).collect(),
+            None => spans
+                .iter()
+                .map(|s| {
+                    let d = supports[s.to].position - supports[s.from].position;
+                    d.x.hypot(d.y)
+                })
+                .collect(),
+        };
+        if let Some((i, n)) = lengths
+            .iter()
+            .map(|&len| len / l)
+            .enumerate()
+            .find(|(_, n)| n.is_nan() || *n > MAX_ELEMENTS_PER_SPAN as f64)
+        {
+            return Err(loc.error(
+                K::InvalidValue,
+                "mesh.element_length",
+                format!(
+                    "{l} m gives {n:.3e} elements in span {} ({:.1} m); at most {MAX_ELEMENTS_PER_SPAN} per span",
+                    i + 1,
+                    lengths[i]
+                ),
+            ));
+        }
+    }
     let iced_spans = match &raw.load_case.iced_spans {
         None => None,
         Some(list) => {
@@ -333,11 +385,13 @@ pub(super) fn validate(
         None => None,
         Some(ice) => {
             let t = ice.thickness;
-            if !(t.is_finite() && t >= 0.0) {
+            if !(t.is_finite() && (0.0..MAX_ICE_THICKNESS).contains(&t)) {
                 return Err(loc.error(
                     K::InvalidValue,
                     "load_case.ice.thickness",
-                    format!("must be zero or a positive radial thickness in m, got {t}"),
+                    format!(
+                        "must be a radial thickness in m from zero to below {MAX_ICE_THICKNESS} m, got {t}"
+                    ),
                 ));
             }
             let density = match ice.density {
@@ -538,7 +592,7 @@ pub(super) fn validate(
         },
     };
 
-    Ok(SectionSpec {
+    let mut spec = SectionSpec {
         file: loc.path().to_path_buf(),
         source: loc.text().to_string(),
         title: raw.glaze.title,
@@ -563,7 +617,10 @@ pub(super) fn validate(
         screening,
         dynamics,
         post,
-    })
+        warnings: Vec::new(),
+    };
+    spec.warnings = super::plausibility::warnings(&spec, loc);
+    Ok(spec)
 }
 
 /// Largest number of time steps of one run: beyond it a run is a typing

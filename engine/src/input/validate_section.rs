@@ -18,6 +18,10 @@ use std::sync::Arc;
 /// load (common practice), so 1e8 N acts as rigid.
 const STRING_AXIAL_STIFFNESS: f64 = 1.0e8;
 
+/// Most spacers in one span (a typing-error guard, common practice: 1000
+/// spacers at 20 m fill a 20 km span).
+const MAX_SPACERS_PER_SPAN: usize = 1000;
+
 /// Distance within which two device or spacer stations of one phase share
 /// a node, in m (the length of a clamp, common practice).
 pub const STATION_MERGE: f64 = 0.5;
@@ -230,6 +234,17 @@ pub(super) fn validate_section(
                     format!("towers must be in increasing chainage order, at least 3 m apart; {chainage} m follows {prev} m"),
                 ));
             }
+            if chainage - prev > super::validate::MAX_SPAN_LENGTH {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    &key("chainage"),
+                    format!(
+                        "a span of {:.1} m from {prev} m: spans longer than {} m are typing errors",
+                        chainage - prev,
+                        super::validate::MAX_SPAN_LENGTH
+                    ),
+                ));
+            }
         }
         let ground = finite(loc, &key("ground"), t.ground, "elevation in m")?;
         let last = i + 1 == raw.towers.len();
@@ -439,6 +454,17 @@ pub(super) fn validate_section(
                 (Some(d), None) => {
                     let d = positive(loc, "spacers.max_subspan", d, "m")?;
                     for (i, &l) in span_lengths.iter().enumerate() {
+                        if (l / d).is_nan() || l / d > MAX_SPACERS_PER_SPAN as f64 {
+                            return Err(loc.error(
+                                K::InvalidValue,
+                                "spacers.max_subspan",
+                                format!(
+                                    "{d} m gives {:.3e} spacers in span {} ({l:.1} m); at most {MAX_SPACERS_PER_SPAN} per span",
+                                    l / d,
+                                    i + 1
+                                ),
+                            ));
+                        }
                         let n = (l / d).ceil() as usize;
                         positions[i] = (1..n).map(|k| l * k as f64 / n as f64).collect();
                     }

@@ -40,32 +40,17 @@ pub fn build(spec: &SectionSpec, registry: &ElementRegistry) -> Result<Model, In
             ),
         )
     })?;
-    let model = match &spec.section {
-        Some(section) => super::section_builder::build_section(spec, section, kind, &loc)?,
-        None => build_row(spec, kind, &loc)?,
-    };
-    warn_coarse_mesh(spec, &model);
-    Ok(model)
+    match &spec.section {
+        Some(section) => super::section_builder::build_section(spec, section, kind, &loc),
+        None => build_row(spec, kind, &loc),
+    }
 }
 
-/// Longest conductor element (m) above which glaze warns: with longer
-/// curved beam elements the twist of a single sagging conductor converges
-/// poorly (−5 % on its first torsional frequency at 10 m, a static state
+/// Longest conductor element (m) above which the input draws a warning
+/// (`input::plausibility`): with longer curved beam elements the twist of
+/// a single sagging conductor converges poorly (−5 % on its first torsional frequency at 10 m, a static state
 /// that is not stable at 40 m, in the 400 m spans of the tests).
 pub const COARSE_ELEMENT_LENGTH: f64 = 20.0;
-
-fn warn_coarse_mesh(spec: &SectionSpec, model: &Model) {
-    if spec.element_kind != "beam" {
-        return;
-    }
-    let longest =
-        model.spans.iter().flat_map(|s| s.stringing.element_lengths.iter().copied()).fold(0.0_f64, f64::max);
-    if longest > COARSE_ELEMENT_LENGTH {
-        tracing::warn!(
-            "conductor elements up to {longest:.1} m long: above {COARSE_ELEMENT_LENGTH} m the torsion of a sagging conductor is poorly resolved (give more elements per span or a shorter mesh.element_length)"
-        );
-    }
-}
 
 fn build_row(
     spec: &SectionSpec,

@@ -5,7 +5,7 @@ mod builder;
 mod dof_map;
 mod section_builder;
 
-pub use builder::build;
+pub use builder::{build, COARSE_ELEMENT_LENGTH};
 pub use dof_map::{DofMap, DOF_PER_NODE};
 
 use crate::aero_loads::ElementAero;

@@ -43,6 +43,7 @@ pub fn partial_path(target: &Path) -> PathBuf {
 impl ResultsWriter {
     /// Starts a results file for `target`, recording the input text.
     pub fn create(target: &Path, input_toml: &str) -> Result<Self, GlazeError> {
+        super::preflight::check(target, super::preflight::BASE_BYTES + input_toml.len() as u64)?;
         let partial = partial_path(target);
         let file = hdf5::File::create(&partial).map_err(|e| err(target, e))?;
         let w = Self { file: Some(file), partial, target: target.to_path_buf() };

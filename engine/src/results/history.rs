@@ -11,6 +11,11 @@ use std::path::PathBuf;
 /// Records buffered before each write (and the chunk length along time).
 const BLOCK: usize = 64;
 
+/// Test hook: with this variable set to N, the first block write past N
+/// records fails as a full disk would (for the tests of a write error in
+/// the middle of a run; see DEVELOPERS.md).
+pub const FAIL_AFTER_RECORDS_VAR: &str = "GLAZE_TEST_FAIL_WRITE_AFTER_RECORDS";
+
 /// Names of the `/dynamic/energy` columns.
 pub const ENERGY_COLUMNS: [&str; 5] =
     ["kinetic", "strain", "gravity_potential", "dissipated", "aerodynamic_work"];
@@ -49,10 +54,12 @@ pub struct HistoryWriter {
     elements: usize,
     supports: usize,
     path: PathBuf,
+    /// Records after which writes fail ([`FAIL_AFTER_RECORDS_VAR`]).
+    fail_after: Option<usize>,
 }
 
 fn err(path: &std::path::Path, e: impl std::fmt::Display) -> GlazeError {
-    GlazeError::Results { path: path.to_path_buf(), message: e.to_string() }
+    GlazeError::Results { path: path.to_path_buf(), message: super::preflight::describe_write_error(e) }
 }
 
 fn extendible(
@@ -107,6 +114,7 @@ impl HistoryWriter {
             elements,
             supports,
             path,
+            fail_after: std::env::var(FAIL_AFTER_RECORDS_VAR).ok().and_then(|v| v.trim().parse().ok()),
         })
     }
 
@@ -136,6 +144,12 @@ impl HistoryWriter {
             return Ok(());
         }
         let (a, b) = (self.written, self.written + k);
+        if self.fail_after.is_some_and(|n| b > n) {
+            return Err(err(
+                &self.path,
+                format!("No space left on device (os error 28), simulated by {FAIL_AFTER_RECORDS_VAR}"),
+            ));
+        }
         let (n, e, sn) = (self.nodes, self.elements, self.supports);
         let p = &self.path;
         let buf = &self.buffer;
