@@ -5,6 +5,7 @@
 //! are printed); 3 the analysis did not converge; 4 results could not be written;
 //! 5 `glaze post` refused the results file (incomplete, other format version, unreadable);
 //! 6 `glaze sweep`: some cases failed, `glaze compare`: some cases are not complete;
+//! 7 `glaze bench --against`: a results fingerprint changed beyond the tolerance;
 //! 130 stopped by a signal.
 
 mod commands;
@@ -124,6 +125,39 @@ enum Command {
         #[arg(long = "sbatch-option", allow_hyphen_values = true)]
         sbatch_options: Vec<String>,
     },
+    /// Timed runs of generated scale cases (1 k to 200 k DOF), written as a
+    /// JSON record; `--against OLD.json` compares speed and results.
+    Bench {
+        /// Case sets (`standard`, `scale`, `demo`) or case names such as
+        /// `s5p3b2e` (spans, phases, subconductors, e = earth wire), comma-separated.
+        #[arg(long, default_value = "standard")]
+        cases: String,
+        /// Simulated time per case, s.
+        #[arg(long, default_value_t = 10.0)]
+        duration: f64,
+        /// Record to write.
+        #[arg(long, short, default_value = "bench.json")]
+        out: PathBuf,
+        /// Earlier record to compare with: speed ratios, and results
+        /// fingerprints flagged when they differ beyond --tolerance.
+        #[arg(long)]
+        against: Option<PathBuf>,
+        /// Relative tolerance on the results fingerprint.
+        #[arg(long, default_value_t = glaze_bench::against::DEFAULT_TOLERANCE)]
+        tolerance: f64,
+        /// Folder for the cases' inputs and results files.
+        #[arg(long, default_value = "bench_cases")]
+        work: PathBuf,
+        /// Keep the cases' results files.
+        #[arg(long)]
+        keep: bool,
+        /// Run one case in this process and write its record to --record-to
+        /// (what each case's child process does).
+        #[arg(long, hide = true)]
+        one: Option<String>,
+        #[arg(long, hide = true)]
+        record_to: Option<PathBuf>,
+    },
     /// Compare the layouts of a study folder written by `glaze sweep`:
     /// tables, a ranking and amplitude-against-wind plots as compare.md
     /// and one self-contained compare.html.
@@ -192,6 +226,37 @@ fn main() -> ExitCode {
                 Ok(commands::SweepEnd::Failed) => ExitCode::from(6),
                 Ok(commands::SweepEnd::Stopped) => ExitCode::from(130),
                 Err(e) => study_error(&e),
+            }
+        }
+        Command::Bench { cases, duration, out, against, tolerance, work, keep, one, record_to } => {
+            let result = match (one, record_to) {
+                (Some(name), Some(to)) => {
+                    commands::bench_one(name, *duration, work, *keep, to).map(|()| true)
+                }
+                _ => commands::bench(
+                    &commands::BenchOptions {
+                        cases: cases.clone(),
+                        duration: *duration,
+                        out: out.clone(),
+                        against: against.clone(),
+                        tolerance: *tolerance,
+                        work: work.clone(),
+                        keep: *keep,
+                    },
+                    q,
+                ),
+            };
+            match result {
+                Ok(true) => ExitCode::SUCCESS,
+                Ok(false) => ExitCode::from(7),
+                Err(e) => {
+                    eprintln!("error: {e}");
+                    ExitCode::from(match e {
+                        glaze_bench::BenchError::Usage(_) => 2,
+                        glaze_bench::BenchError::Io { .. } => 4,
+                        glaze_bench::BenchError::Case(..) => 3,
+                    })
+                }
             }
         }
         Command::Compare { dir } => match commands::compare(dir, q) {

@@ -12,6 +12,7 @@ macro_rules! out_part {
     ($($arg:tt)*) => { $crate::commands::write_stdout(format_args!($($arg)*)) };
 }
 
+mod bench;
 mod check;
 mod compare;
 mod modes;
@@ -21,6 +22,7 @@ mod screen;
 mod static_cmd;
 mod sweep;
 
+pub use bench::{bench, bench_one, BenchOptions};
 pub use check::check;
 pub use compare::compare;
 pub use modes::{run_modes, SolverChoice};
