@@ -212,6 +212,7 @@ fn a_perturbation_gives_either_a_translation_or_a_twist() {
         ("{ mode = 1 }", "dynamics.perturbation", "`twist`"),
         ("{ mode = 1, twist = 0.9 }", "dynamics.perturbation.twist", "at most 0.5"),
         ("{ mode = 1, twist = nan }", "dynamics.perturbation.twist", "finite"),
+        ("{ mode = 1, amplitude = 0.1, start = \"sideways\" }", "dynamics.perturbation.start", "`velocity`"),
     ] {
         let text = input_text(&format!("duration = 10.0\ntime_step = 0.01\nperturbation = {body}"));
         let err = input::load_str(Path::new("bad_dynamics.toml"), &text, &registry)
@@ -222,5 +223,9 @@ fn a_perturbation_gives_either_a_translation_or_a_twist() {
         assert!(err.message.contains(needle), "{err}");
     }
     let text = input_text("duration = 10.0\ntime_step = 0.01\nperturbation = { mode = 1, twist = 0.05 }");
+    assert!(input::load_str(Path::new("ok.toml"), &text, &registry).is_ok());
+    let text = input_text(
+        "duration = 10.0\ntime_step = 0.01\nperturbation = { mode = 1, amplitude = 0.1, start = \"velocity\" }",
+    );
     assert!(input::load_str(Path::new("ok.toml"), &text, &registry).is_ok());
 }

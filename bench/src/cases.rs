@@ -113,7 +113,7 @@ impl ScaleCase {
             ice.display()
         );
         s += &format!(
-            "[dynamics]\nduration = {duration}\ntime_step = 0.01\noutput_interval = 0.05\nscheme = \"hht\"\nalpha = -0.05\ndamping = {{ modes = [1, 12], ratios = [0.005, 0.005] }}\nperturbation = {{ mode = 1, amplitude = 0.05 }}\n"
+            "[dynamics]\nduration = {duration}\ntime_step = 0.01\noutput_interval = 0.05\nscheme = \"hht\"\nalpha = -0.05\ndamping = {{ modes = [1, 12], ratios = [0.005, 0.005] }}\nperturbation = {{ mode = 1, amplitude = 0.05, start = \"velocity\" }}\n"
         );
         Ok(s)
     }

@@ -208,13 +208,29 @@ pub struct DynamicsSpec {
 /// it a linear mode shape is no longer a sensible start.
 pub const MAX_PERTURBATION_TWIST: f64 = 0.5;
 
-/// `[dynamics.perturbation]`: a displacement along one mode of the static state.
+/// `[dynamics.perturbation]`: a start along one mode of the static state.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Perturbation {
     /// Mode number, 1-based by frequency.
     pub mode: usize,
     /// How the mode shape is scaled.
     pub size: PerturbationSize,
+    /// Whether the mode shape is a start displacement or a start velocity.
+    pub start: PerturbationStart,
+}
+
+/// How a perturbation starts the motion.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PerturbationStart {
+    /// The state is displaced along the mode shape (scaled to the size) and
+    /// released from rest. Nonlinear terms (stretch, stiff frames) make the
+    /// displaced state slightly out of equilibrium where a linear shape is
+    /// scaled to finite size.
+    Displacement,
+    /// The static state is started with velocity ω·φ (φ scaled to the
+    /// size), so it swings to about the size in a quarter period: the
+    /// start is an exact equilibrium and the energy balance holds from t = 0.
+    Velocity,
 }
 
 /// Scale of a perturbation.

@@ -13,7 +13,7 @@ use crate::model::{self, Model, DOF_PER_NODE};
 use crate::registry::ElementRegistry;
 use crate::results::{HistoryWriter, Record, ResultsWriter};
 use crate::spec::{
-    DampingSpec, DynamicsSpec, Perturbation, PerturbationSize, SchemeSpec, SectionSpec,
+    DampingSpec, DynamicsSpec, Perturbation, PerturbationSize, PerturbationStart, SchemeSpec, SectionSpec,
     MAX_PERTURBATION_TWIST,
 };
 use glaze_elements::{ElementContext, NodeState};
@@ -127,10 +127,20 @@ pub fn run_dynamic(
     let mut system =
         DynamicSystem::new(&model, &state.config, rayleigh.mass, rayleigh.stiffness, dynamics.wind_ramp)
             .map_err(|e| GlazeError::Analysis { message: format!("dynamic system: {}", e.message) })?;
+    let mut v0 = vec![0.0; model.dofs.len()];
     if let (Some(perturbation), Some((set, lin))) = (dynamics.perturbation, &modes) {
-        let dq = perturbation_increment(&set.vectors[perturbation.mode - 1], &lin.equations, perturbation)?;
-        system.set_increment(&dq);
-        system.commit();
+        let k = perturbation.mode - 1;
+        let dq = perturbation_increment(&set.vectors[k], &lin.equations, perturbation)?;
+        match perturbation.start {
+            PerturbationStart::Displacement => {
+                system.set_increment(&dq);
+                system.commit();
+            }
+            PerturbationStart::Velocity => {
+                let omega = set.omega_squared[k].max(0.0).sqrt();
+                v0 = dq.iter().map(|x| omega * x).collect();
+            }
+        }
     }
     let modal_damping = modes.as_ref().map_or(Vec::new(), |(set, _)| {
         set.omega_squared
@@ -142,7 +152,7 @@ pub fn run_dynamic(
             .collect()
     });
     let mut summary =
-        integrate(spec, dynamics, &model, &state.config, system, writer, stop, progress, rayleigh)?;
+        integrate(spec, dynamics, &model, &state.config, system, v0, writer, stop, progress, rayleigh)?;
     summary.modal_damping = modal_damping;
     Ok(summary)
 }
@@ -225,12 +235,12 @@ fn integrate(
     model: &Model,
     start: &Configuration,
     system: DynamicSystem<'_>,
+    v0: Vec<f64>,
     writer: &ResultsWriter,
     stop: &AtomicBool,
     progress: &mut dyn FnMut(Progress),
     rayleigh: Rayleigh,
 ) -> Result<DynamicSummary, GlazeError> {
-    let n = model.dofs.len();
     let mut history =
         HistoryWriter::create(writer, model.node_count(), model.elements.len(), model.support_nodes.len())?;
     let first_config = system.committed.clone();
@@ -239,11 +249,11 @@ fn integrate(
     let start_error = |e: glaze_solvers::SolverError| GlazeError::Analysis {
         message: format!("the dynamic run could not start: {e}"),
     };
-    let mut integ = match initial_acceleration(&mut system) {
-        None => Integrator::new(system, vec![0.0; n], 0.0, settings(d)).map_err(start_error)?,
+    let mut integ = match initial_acceleration(&mut system, &v0) {
+        None => Integrator::new(system, v0.clone(), 0.0, settings(d)).map_err(start_error)?,
         Some(a0) => {
             let a0 = a0.map_err(start_error)?;
-            Integrator::with_initial_acceleration(system, vec![0.0; n], a0, 0.0, settings(d))
+            Integrator::with_initial_acceleration(system, v0.clone(), a0, 0.0, settings(d))
                 .map_err(start_error)?
         }
     };
@@ -253,7 +263,7 @@ fn integrate(
         aero_work: 0.0,
         f_int: integ.system().internal_force.clone(),
         f_aero: integ.system().aero_force.clone(),
-        v: vec![0.0; n],
+        v: v0,
         config: first_config,
         time: 0.0,
         worst: 0.0,
@@ -505,6 +515,7 @@ fn support_forces(
 /// a₀ itself).
 fn initial_acceleration(
     system: &mut DynamicSystem<'_>,
+    v0: &[f64],
 ) -> Option<Result<Vec<f64>, glaze_solvers::SolverError>> {
     use glaze_solvers::LinearSolver;
     use glaze_solvers::SecondOrderSystem;
@@ -516,7 +527,7 @@ fn initial_acceleration(
         return None;
     }
     let mut g = vec![0.0; n];
-    if let Err(e) = system.evaluate(0.0, &vec![0.0; n], &mut g, None, None) {
+    if let Err(e) = system.evaluate(0.0, v0, &mut g, None, None) {
         return Some(Err(glaze_solvers::SolverError::EvaluationAtTime { time: 0.0, message: e.to_string() }));
     }
     let mut m = system.mass().to_vec();

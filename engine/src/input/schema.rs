@@ -112,6 +112,10 @@ pub struct RawPerturbation {
     pub amplitude: Option<f64>,
     /// Largest rotation of the perturbation, in rad (for a torsional mode).
     pub twist: Option<f64>,
+    /// `displacement` (default: the state displaced along the mode, released
+    /// from rest) or `velocity` (the static state given the mode's velocity
+    /// ω·φ, reaching about the size a quarter period later).
+    pub start: Option<String>,
 }
 
 /// `[glaze]`: schema version and a free title.

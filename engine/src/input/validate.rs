@@ -6,9 +6,9 @@ use super::Locator;
 use crate::error::{InputError, InputErrorKind as K};
 use crate::registry::ElementRegistry;
 use crate::spec::{
-    Conductor, DampingSpec, DynamicsSpec, LoadCase, MeshDensity, Perturbation, PerturbationSize, SchemeSpec,
-    ScreeningSpec, SectionSpec, SolverSpec, SpanSpec, StringingTarget, Support, WindSpec,
-    MAX_PERTURBATION_TWIST,
+    Conductor, DampingSpec, DynamicsSpec, LoadCase, MeshDensity, Perturbation, PerturbationSize,
+    PerturbationStart, SchemeSpec, ScreeningSpec, SectionSpec, SolverSpec, SpanSpec, StringingTarget,
+    Support, WindSpec, MAX_PERTURBATION_TWIST,
 };
 use glaze_aero::ice::GLAZE_ICE_DENSITY;
 use glaze_aero::{CoefficientTable, MeanWind, RadialIce, TableOptions, WindProfile, ISA_AIR_DENSITY};
@@ -791,7 +791,18 @@ fn validate_dynamics(d: &super::schema::RawDynamics, loc: &Locator<'_>) -> Resul
                     ))
                 }
             };
-            Some(Perturbation { mode: p.mode, size })
+            let start = match p.start.as_deref() {
+                None | Some("displacement") => PerturbationStart::Displacement,
+                Some("velocity") => PerturbationStart::Velocity,
+                Some(other) => {
+                    return Err(loc.error(
+                        K::InvalidValue,
+                        "dynamics.perturbation.start",
+                        format!("`{other}`: give `displacement` or `velocity`"),
+                    ))
+                }
+            };
+            Some(Perturbation { mode: p.mode, size, start })
         }
     };
     Ok(DynamicsSpec {
