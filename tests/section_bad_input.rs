@@ -129,3 +129,34 @@ fn a_section_meshed_with_elements_that_cannot_twist() {
     let msg = expect_error(&text, "mesh.type", InputErrorKind::InvalidValue, line);
     assert!(msg.contains("beam"), "{msg}");
 }
+
+#[test]
+fn bad_linear_dashpots() {
+    let base = demo("section_five_spans.toml");
+    let last = "  { type = \"interphase_spacer\", span = 4, distance = 195.0, phases = [\"B\", \"C\"], hinged = true, axial_stiffness = 2.0e7, mass = 35.0 },\n";
+    assert!(base.contains(last), "the demo's layout changed; update this test");
+    for (extra, field, needle) in [
+        ("{ type = \"linear_dashpot\", span = 1, distance = 100.0, phase = \"A\", coefficient = -5.0 }", "coefficient", "-5"),
+        (
+            "{ type = \"linear_dashpot\", span = 1, distance = 100.0, phase = \"A\", coefficient = 50.0, direction = \"sideways\" }",
+            "direction",
+            "vertical, across or along",
+        ),
+        (
+            "{ type = \"linear_dashpot\", span = 1, distance = 100.0, phase = \"A\", coefficient = 50.0, to = \"B\", direction = \"vertical\" }",
+            "direction",
+            "line joining them",
+        ),
+        ("{ type = \"linear_dashpot\", span = 1, distance = 100.0, phase = \"A\", coefficient = 50.0, to = \"A\" }", "to", "two different phases"),
+    ] {
+        let text = base.replacen(last, &format!("{last}  {extra},\n"), 1);
+        let line = line_of(&text, "[layouts.interphase_spacers]", "linear_dashpot");
+        let msg = expect_error(
+            &text,
+            &format!("layouts.interphase_spacers.devices[4].{field}"),
+            InputErrorKind::InvalidValue,
+            line,
+        );
+        assert!(msg.contains(needle), "{msg}");
+    }
+}

@@ -98,4 +98,13 @@ pub trait Element: Send + Sync + std::fmt::Debug {
 
     /// Mass per unstretched length, in kg/m.
     fn mass_per_length(&self) -> f64;
+
+    /// Viscous damping matrix `c` (row-major `6n × 6n`, N·s/m and N·m·s/rad)
+    /// about the given state, for kinds with dashpots: the time integration
+    /// adds it to the Rayleigh damping as a constant matrix. Returns `false`
+    /// (leaving `c` alone) for kinds without viscous damping, the default.
+    fn damping_matrix(&self, nodes: &[NodeState], c: &mut [f64]) -> bool {
+        let _ = (nodes, c);
+        false
+    }
 }

@@ -20,6 +20,7 @@
 mod cable;
 mod clamp_joint;
 mod corotational_beam;
+mod dashpot;
 mod element;
 #[cfg(test)]
 mod energy_tests;
@@ -35,6 +36,7 @@ mod truss;
 pub use cable::Cable;
 pub use clamp_joint::{ClampJoint, ClampStiffness};
 pub use corotational_beam::{BeamSection, CorotationalBeam};
+pub use dashpot::Dashpot;
 pub use element::{Element, ElementContext, ElementOutput, NodeState};
 pub use error::ElementError;
 pub use link::Link;

@@ -3,7 +3,8 @@
 //!
 //! - M: lumped mass of the elements (conductor, ice), constant.
 //! - C: Rayleigh damping `a0 M + a1 K0` with K0 the symmetrised tangent at
-//!   the start state (Clough & Penzien 1993, §12.4).
+//!   the start state (Clough & Penzien 1993, §12.4), plus the constant
+//!   damping matrices of dashpot devices (`Element::damping_matrix`).
 //! - f_aero: quasi-steady loads of [`crate::aero_loads`], with the conductor
 //!   velocity and twist rate in the relative wind, so their derivatives
 //!   give the aerodynamic stiffness K and damping D of the Newton matrix.
@@ -104,6 +105,16 @@ impl<'m> DynamicSystem<'m> {
         }
         for (c, m) in s.damping.iter_mut().zip(&s.mass) {
             *c += a0 * m;
+        }
+        // Dashpots of devices: constant matrices about the start state.
+        for e in 0..model.elements.len() {
+            s.gather_nodes(e, false);
+            let n = model.elements[e].nodes().len() * DOF_PER_NODE;
+            if model.elements[e].damping_matrix(&s.gather, &mut s.k_local[..n * n]) {
+                let mut damping = std::mem::take(&mut s.damping);
+                s.assembler.add_matrix(e, &s.k_local[..n * n], &mut damping);
+                s.damping = damping;
+            }
         }
         Ok(s)
     }

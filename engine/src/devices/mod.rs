@@ -6,6 +6,7 @@
 
 mod detuning_pendulum;
 mod interphase_spacer;
+mod linear_dashpot;
 mod lumped_mass;
 mod placement;
 mod spoiler;
@@ -128,6 +129,7 @@ impl DeviceRegistry {
         r.register(Box::new(detuning_pendulum::DetuningPendulumKind));
         r.register(Box::new(spoiler::SpoilerKind));
         r.register(Box::new(lumped_mass::LumpedMassKind));
+        r.register(Box::new(linear_dashpot::LinearDashpotKind));
         r
     }
 
