@@ -160,3 +160,34 @@ fn bad_linear_dashpots() {
         assert!(msg.contains(needle), "{msg}");
     }
 }
+
+#[test]
+fn bad_spacer_dampers() {
+    let base = demo("section_five_spans.toml");
+    let rigid = "kind = \"rigid\"\nmax_subspan = 60.0            # m\nmass = 2.5                    # kg\n";
+    assert!(base.contains(rigid), "the demo's spacers changed; update this test");
+    let damper = |extra: &str| {
+        base.replacen(rigid, &format!("kind = \"damper\"\nmax_subspan = 60.0\nmass = 2.5\n{extra}"), 1)
+    };
+    // A damper without its hinge data names the missing key at the table.
+    let text = damper("hinge_damping = 1.0\n");
+    let line = line_of(&text, "[spacers]", "[spacers]");
+    let msg = expect_error(&text, "spacers.hinge_stiffness", InputErrorKind::MissingKey, line);
+    assert!(msg.contains("N·m/rad"), "{msg}");
+    for (extra, key, needle) in [
+        ("hinge_stiffness = -3.0\nhinge_damping = 1.0\n", "hinge_stiffness", "-3"),
+        ("hinge_stiffness = 30.0\nhinge_damping = -1.0\n", "hinge_damping", "-1"),
+        ("hinge_stiffness = 30.0\nhinge_damping = 1.0\nframe_mass = 2.5\n", "frame_mass", "not less than"),
+        ("hinge_stiffness = 30.0\nhinge_damping = 1.0\nframe_inertia = 0.1\n", "frame_inertia", "frame_mass"),
+    ] {
+        let text = damper(extra);
+        let line = line_of(&text, "[spacers]", &format!("{key} ="));
+        let msg = expect_error(&text, &format!("spacers.{key}"), InputErrorKind::InvalidValue, line);
+        assert!(msg.contains(needle), "{msg}");
+    }
+    // Hinge data on a spacer of another kind.
+    let text = base.replacen(rigid, &format!("{rigid}hinge_damping = 1.0\n"), 1);
+    let line = line_of(&text, "[spacers]", "hinge_damping =");
+    let msg = expect_error(&text, "spacers.hinge_damping", InputErrorKind::InvalidValue, line);
+    assert!(msg.contains("damper"), "{msg}");
+}

@@ -52,6 +52,8 @@ pub struct ClampJoint {
     nodes: [usize; 2],
     axis: Vector3<f64>,
     stiffness: ClampStiffness,
+    /// Viscous damping of the twist about the axis, in N·m·s/rad.
+    twist_damping: f64,
 }
 
 impl ClampJoint {
@@ -85,7 +87,27 @@ impl ClampJoint {
                 });
             }
         }
-        Ok(Self { nodes, axis: axis / n, stiffness })
+        Ok(Self { nodes, axis: axis / n, stiffness, twist_damping: 0.0 })
+    }
+
+    /// The same joint with a rotational dashpot `c` (N·m·s/rad) on the
+    /// twist about its axis: the moment `−c ((ω_b − ω_a)·e) e` on b, `e`
+    /// the axis turned with a (the hinge of a spacer-damper arm, whose
+    /// elastomer bushing resists the arm's swing in the spacer's plane).
+    ///
+    /// # Errors
+    /// [`ElementError::InvalidValue`] for a negative or non-finite `c`.
+    pub fn with_twist_damping(mut self, c: f64) -> Result<Self, ElementError> {
+        if !(c.is_finite() && c >= 0.0) {
+            return Err(ElementError::InvalidValue {
+                kind: "clamp_joint",
+                parameter: "twist_damping",
+                value: c,
+                expected: "a finite damping coefficient, zero or positive (N·m·s/rad)",
+            });
+        }
+        self.twist_damping = c;
+        Ok(self)
     }
 
     fn compliance_matrix(&self) -> Matrix3<f64> {
@@ -187,6 +209,24 @@ impl Element for ClampJoint {
     fn mass_per_length(&self) -> f64 {
         0.0
     }
+
+    fn damping_matrix(&self, nodes: &[NodeState], c: &mut [f64]) -> bool {
+        if self.twist_damping == 0.0 {
+            return false;
+        }
+        let e = nodes[0].rotation * self.axis;
+        c[..144].fill(0.0);
+        for (a, sa) in [(3usize, 1.0f64), (9, -1.0)] {
+            for (b, sb) in [(3usize, 1.0f64), (9, -1.0)] {
+                for i in 0..3 {
+                    for j in 0..3 {
+                        c[(a + i) * 12 + b + j] = sa * sb * self.twist_damping * e[i] * e[j];
+                    }
+                }
+            }
+        }
+        true
+    }
 }
 
 #[cfg(test)]
@@ -262,5 +302,35 @@ mod tests {
             let m = Vector3::new(f[9], f[10], f[11]);
             assert!((m.dot(&axis) / phi / want - 1.0).abs() < 1e-6, "{axis:?}: {m:?}");
         }
+    }
+
+    #[test]
+    fn twist_dashpot_resists_only_relative_spin_about_the_turned_axis() {
+        // Definition of the hinge dashpot: m_b = −c ((ω_b − ω_a)·e) e with e
+        // the axis turned by a's rotation; a common spin of both nodes, or a
+        // relative spin across the axis, meets no moment.
+        let s = ClampStiffness { translation: 1e6, twist: 5.0e3, bending: 40.0 };
+        let c = 12.0;
+        let joint = ClampJoint::new([0, 1], Vector3::x(), s).unwrap().with_twist_damping(c).unwrap();
+        let turn = so3::exp(&Vector3::new(0.0, 0.0, 0.3));
+        let x = Vector3::zeros();
+        let nodes = [NodeState { x0: x, x, rotation: turn }, NodeState { x0: x, x, rotation: turn }];
+        let mut cm = vec![0.0; 144];
+        assert!(joint.damping_matrix(&nodes, &mut cm));
+        let e = turn * Vector3::x();
+        let moment_on_b = |wa: Vector3<f64>, wb: Vector3<f64>| {
+            let mut v = [0.0; 12];
+            v[3..6].copy_from_slice(wa.as_slice());
+            v[9..12].copy_from_slice(wb.as_slice());
+            Vector3::from_fn(|r, _| -(0..12).map(|j| cm[(9 + r) * 12 + j] * v[j]).sum::<f64>())
+        };
+        let m = moment_on_b(Vector3::zeros(), e * 2.0);
+        assert!((m + e * (2.0 * c)).norm() < 1e-12, "{m:?}");
+        assert!(moment_on_b(e, e).norm() < 1e-12);
+        let across = Vector3::z();
+        assert!(moment_on_b(Vector3::zeros(), across).norm() < 1e-12);
+        assert!(ClampJoint::new([0, 1], Vector3::x(), s).unwrap().with_twist_damping(-1.0).is_err());
+        let plain = ClampJoint::new([0, 1], Vector3::x(), s).unwrap();
+        assert!(!plain.damping_matrix(&nodes, &mut cm), "no dashpot, no matrix");
     }
 }

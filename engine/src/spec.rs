@@ -372,6 +372,23 @@ pub enum SpacerKind {
     Rigid,
     /// Arms of a given bending stiffness EI, in N·m².
     Elastic(f64),
+    /// Spacer-damper: rigid arms hinged to a central frame, each hinge with
+    /// a rotational spring and dashpot about the bundle axis (the
+    /// elastomer bushing), the frame with its own mass and rotary inertia.
+    Damper(SpacerDamper),
+}
+
+/// Hinges and frame of a spacer-damper.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SpacerDamper {
+    /// Rotational stiffness of each arm's hinge, in N·m/rad.
+    pub hinge_stiffness: f64,
+    /// Rotational damping of each arm's hinge, in N·m·s/rad.
+    pub hinge_damping: f64,
+    /// Mass of the central frame (part of the spacer's mass), in kg.
+    pub frame_mass: f64,
+    /// Rotary inertia of the central frame, in kg·m².
+    pub frame_inertia: f64,
 }
 
 /// Spacers on every bundle of more than one subconductor.

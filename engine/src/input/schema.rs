@@ -386,6 +386,14 @@ pub struct RawSpacers {
     pub mass: f64,
     /// Bending stiffness EI of the arms of an `elastic` spacer, in N·m².
     pub arm_bending_stiffness: Option<f64>,
+    /// Rotational stiffness of each arm's hinge of a `damper`, in N·m/rad.
+    pub hinge_stiffness: Option<f64>,
+    /// Rotational damping of each arm's hinge of a `damper`, in N·m·s/rad.
+    pub hinge_damping: Option<f64>,
+    /// Part of `mass` carried by the central frame of a `damper`, in kg.
+    pub frame_mass: Option<f64>,
+    /// Rotary inertia of the central frame of a `damper`, in kg·m².
+    pub frame_inertia: Option<f64>,
 }
 
 /// Spacer positions in one span.

@@ -1,14 +1,14 @@
 //! Validation of a tension section: towers, insulator strings, phases and
 //! bundles, spacers, ground profile and the devices of the chosen layout.
 
-use super::schema::RawInput;
+use super::schema::{RawInput, RawSpacers};
 use super::Locator;
 use crate::devices::{DeviceContext, PlacedDevice, Station, TOWER_CLEARANCE};
 use crate::error::{InputError, InputErrorKind as K};
 use crate::registry::ElementRegistry;
 use crate::spec::{
-    Bundle, Conductor, Insulator, InsulatorKind, Phase, SpacerKind, SpacerSpec, TensionSection, Tower,
-    TowerKind,
+    Bundle, Conductor, Insulator, InsulatorKind, Phase, SpacerDamper, SpacerKind, SpacerSpec, TensionSection,
+    Tower, TowerKind,
 };
 use std::collections::BTreeMap;
 use std::sync::Arc;
@@ -40,6 +40,52 @@ fn positive(loc: &Locator<'_>, key: &str, v: f64, unit: &str) -> Result<f64, Inp
     } else {
         Err(loc.error(K::InvalidValue, key, format!("must be a positive finite number ({unit}), got {v}")))
     }
+}
+
+/// The hinges and frame of `kind = "damper"` spacers.
+fn spacer_damper(s: &RawSpacers, loc: &Locator<'_>) -> Result<SpacerDamper, InputError> {
+    let needed = |key: &str, v: Option<f64>, what: &str| {
+        v.ok_or_else(|| loc.error(K::MissingKey, key, format!("a spacer-damper needs {what}")))
+    };
+    let at_least_zero = |key: &str, v: f64, unit: &str| {
+        if v.is_finite() && v >= 0.0 {
+            Ok(v)
+        } else {
+            Err(loc.error(
+                K::InvalidValue,
+                key,
+                format!("must be zero or a positive finite number ({unit}), got {v}"),
+            ))
+        }
+    };
+    let hinge_stiffness = positive(
+        loc,
+        "spacers.hinge_stiffness",
+        needed("spacers.hinge_stiffness", s.hinge_stiffness, "hinge_stiffness in N·m/rad")?,
+        "N·m/rad",
+    )?;
+    let hinge_damping = at_least_zero(
+        "spacers.hinge_damping",
+        needed("spacers.hinge_damping", s.hinge_damping, "hinge_damping in N·m·s/rad")?,
+        "N·m·s/rad",
+    )?;
+    let frame_mass = at_least_zero("spacers.frame_mass", s.frame_mass.unwrap_or(0.0), "kg")?;
+    if frame_mass >= s.mass {
+        return Err(loc.error(
+            K::InvalidValue,
+            "spacers.frame_mass",
+            format!("{frame_mass} kg is not less than the spacer's mass of {} kg (the rest is on the arms and clamps)", s.mass),
+        ));
+    }
+    let frame_inertia = at_least_zero("spacers.frame_inertia", s.frame_inertia.unwrap_or(0.0), "kg·m²")?;
+    if frame_inertia > 0.0 && frame_mass == 0.0 {
+        return Err(loc.error(
+            K::InvalidValue,
+            "spacers.frame_inertia",
+            "a frame with rotary inertia needs a frame_mass",
+        ));
+    }
+    Ok(SpacerDamper { hinge_stiffness, hinge_damping, frame_mass, frame_inertia })
 }
 
 /// Validates the section part of `raw`.
@@ -418,17 +464,29 @@ pub(super) fn validate_section(
     let spacers = match &raw.spacers {
         None => None,
         Some(s) => {
-            let kind = match s.kind.as_deref().unwrap_or("rigid") {
-                "rigid" => {
-                    if s.arm_bending_stiffness.is_some() {
-                        return Err(loc.error(
-                            K::InvalidValue,
-                            "spacers.arm_bending_stiffness",
-                            "belongs to kind = \"elastic\"",
-                        ));
+            let kind_name = s.kind.as_deref().unwrap_or("rigid");
+            if kind_name != "elastic" && s.arm_bending_stiffness.is_some() {
+                return Err(loc.error(
+                    K::InvalidValue,
+                    "spacers.arm_bending_stiffness",
+                    "belongs to kind = \"elastic\"",
+                ));
+            }
+            if kind_name != "damper" {
+                for (key, v) in [
+                    ("spacers.hinge_stiffness", s.hinge_stiffness),
+                    ("spacers.hinge_damping", s.hinge_damping),
+                    ("spacers.frame_mass", s.frame_mass),
+                    ("spacers.frame_inertia", s.frame_inertia),
+                ] {
+                    if v.is_some() {
+                        return Err(loc.error(K::InvalidValue, key, "belongs to kind = \"damper\""));
                     }
-                    SpacerKind::Rigid
                 }
+            }
+            let kind = match kind_name {
+                "rigid" => SpacerKind::Rigid,
+                "damper" => SpacerKind::Damper(spacer_damper(s, loc)?),
                 "elastic" => SpacerKind::Elastic(positive(
                     loc,
                     "spacers.arm_bending_stiffness",
@@ -445,7 +503,7 @@ pub(super) fn validate_section(
                     return Err(loc.error(
                         K::UnknownName,
                         "spacers.kind",
-                        format!("unknown spacer kind `{other}`; known kinds: rigid, elastic"),
+                        format!("unknown spacer kind `{other}`; known kinds: rigid, elastic, damper"),
                     ))
                 }
             };

@@ -21,7 +21,9 @@ use crate::error::{InputError, InputErrorKind};
 use crate::formfinding::{CatenarySpan, ChainLayout, DiscreteChain};
 use crate::input::Locator;
 use crate::registry::{ConductorElementKind, SegmentSpec};
-use crate::spec::{InsulatorKind, MeshDensity, SectionSpec, SpacerKind, TensionSection, TowerKind};
+use crate::spec::{
+    InsulatorKind, MeshDensity, SectionSpec, SpacerDamper, SpacerKind, TensionSection, TowerKind,
+};
 use glaze_aero::CoefficientTable;
 use glaze_elements::{
     ClampJoint, ClampStiffness, Element, Link, NodeState, PointMass, TorsionRestraint, TrussSection,
@@ -79,6 +81,40 @@ impl Mesh {
         self.aero.push(aero);
         self.bare_conductor.push(bare);
         self.device.push(device);
+    }
+
+    /// A spacer-damper: from `hub`, per node of `clamps`, a hinge (a joint
+    /// soft and damped in rotation about `along`, see
+    /// [`ClampJoint::with_twist_damping`]) to a node at the hub, then a
+    /// rigid arm and a grip as in [`frame`](Self::frame).
+    fn hinged_frame(
+        &mut self,
+        hub: usize,
+        clamps: &[usize],
+        along: Vector3<f64>,
+        damper: &SpacerDamper,
+        grip: ClampStiffness,
+    ) -> Result<(), String> {
+        // Stiff against translation and the rotations across the axis, as the grip.
+        let hinge = ClampStiffness {
+            translation: grip.translation,
+            twist: damper.hinge_stiffness,
+            bending: grip.twist,
+        };
+        for &c in clamps {
+            let root = self.node(self.nodes[hub]);
+            let joint = ClampJoint::new([hub, root], along, hinge)
+                .and_then(|j| j.with_twist_damping(damper.hinge_damping))
+                .map_err(|e| e.to_string())?;
+            self.push(Box::new(joint), None, None, false);
+            self.frame(root, &[c], along, RIGID_ARM, grip, false)?;
+        }
+        if damper.frame_mass > 0.0 {
+            let pm =
+                PointMass::new(hub, damper.frame_mass, damper.frame_inertia).map_err(|e| e.to_string())?;
+            self.push(Box::new(pm), None, None, false);
+        }
+        Ok(())
     }
 
     /// A rigid (massless) frame from `hub` to each node of `clamps`.
@@ -538,8 +574,18 @@ pub(super) fn build_section(
                 let centre = mesh.nodes[sub[0]] - offsets[0];
                 let hub = mesh.node(centre);
                 let axis = tangent(s, station.chain_index);
-                mesh.frame(hub, &sub, axis, spacer_arm, grip, false).map_err(|e| invalid("spacers", e))?;
-                let mass = section.spacers.as_ref().map_or(0.0, |x| x.mass) / count as f64;
+                let frame_mass = match section.spacers.as_ref().map(|x| x.kind) {
+                    Some(SpacerKind::Damper(d)) => {
+                        mesh.hinged_frame(hub, &sub, axis, &d, grip).map_err(|e| invalid("spacers", e))?;
+                        d.frame_mass
+                    }
+                    _ => {
+                        mesh.frame(hub, &sub, axis, spacer_arm, grip, false)
+                            .map_err(|e| invalid("spacers", e))?;
+                        0.0
+                    }
+                };
+                let mass = (section.spacers.as_ref().map_or(0.0, |x| x.mass) - frame_mass) / count as f64;
                 for &n in &sub {
                     let pm =
                         PointMass::new(n, mass, 0.0).map_err(|e| invalid("spacers.mass", e.to_string()))?;
