@@ -7,6 +7,7 @@
 use crate::results_file::{ModelInfo, ResultsFile};
 use crate::ReportError;
 use glaze_post::clearance::{min_vertical_clearance, ClearanceSearch, GroundProfile, PolylineSet};
+use rayon::prelude::*;
 
 /// Records read from the file at a time.
 const BLOCK: usize = 128;
@@ -145,9 +146,9 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
     };
     let pair_ids: Vec<(usize, usize)> =
         (0..phases.len()).flat_map(|i| (i + 1..phases.len()).map(move |j| (i, j))).collect();
-    let mut sets: Vec<PolylineSet> =
+    let sets: Vec<PolylineSet> =
         phases.iter().map(|(_, lines)| to_set(lines, &model.static_position)).collect::<Result<_, _>>()?;
-    let mut searches: Vec<ClearanceSearch> = pair_ids.iter().map(|_| ClearanceSearch::new()).collect();
+    let searches: Vec<ClearanceSearch> = pair_ids.iter().map(|_| ClearanceSearch::new()).collect();
     let mut pairs: Vec<((usize, usize), Vec<Approach>)> =
         pair_ids.iter().map(|&(i, j)| ((phases[i].0, phases[j].0), Vec::with_capacity(t_count))).collect();
     let mut ground: Vec<(usize, Vec<Approach>)> = match profile {
@@ -159,72 +160,59 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
     let s_count = model.support_nodes.len();
     let mut support_force = vec![Vec::with_capacity(t_count); s_count];
     let e_count = model.element_kind.len();
-    let mut pos = model.static_position.clone();
+    let pos = model.static_position.clone();
     let mut work = (sets.iter().map(PolylineSet::segment_count).sum::<usize>(), 0u64);
 
+    // Records are independent: each block is read whole (HDF5 is serial),
+    // then its records are worked out in parallel, each worker with its own
+    // geometry scratch, and appended in record order (the same result on
+    // any number of threads).
+    let scratch = Scratch { pos, sets, searches };
     let mut start = 0;
     while start < t_count {
         let end = (start + BLOCK).min(t_count);
         let disp = file.displacement(start..end)?;
         let axial = file.axial_force(start..end)?;
         let forces = file.support_force(start..end)?;
-        for r in 0..end - start {
-            let d = &disp[r * n * 3..(r + 1) * n * 3];
-            for (k, p) in pos.iter_mut().enumerate() {
-                let s = model.static_position[k];
-                *p = [s[0] + d[3 * k], s[1] + d[3 * k + 1], s[2] + d[3 * k + 2]];
-            }
-            for g in spans.iter_mut() {
-                let m = g.subconductors.len() as f64;
-                let stations = g.subconductors[0].len();
-                let (mut ys, mut zs) = (Vec::with_capacity(stations), Vec::with_capacity(stations));
-                for i in 0..stations {
-                    let (mut y, mut z) = (0.0, 0.0);
-                    for sub in &g.subconductors {
-                        let k = sub[i];
-                        y += d[3 * k] * g.across[0] + d[3 * k + 1] * g.across[1];
-                        z += d[3 * k + 2];
-                    }
-                    ys.push(y / m);
-                    zs.push(z / m);
-                }
+        let outs: Vec<RecordOut> = (0..end - start)
+            .into_par_iter()
+            .map_init(
+                || scratch.clone(),
+                |sc, r| {
+                    one_record(
+                        model,
+                        &spans,
+                        &phases,
+                        &pair_ids,
+                        profile.as_ref(),
+                        sc,
+                        &disp[r * n * 3..(r + 1) * n * 3],
+                        &axial[r * e_count..(r + 1) * e_count],
+                        &forces[r * s_count * 3..(r + 1) * s_count * 3],
+                    )
+                },
+            )
+            .collect::<Result<_, _>>()?;
+        for o in outs {
+            for (g, (ys, zs)) in spans.iter_mut().zip(o.stations) {
                 g.y.push(ys);
                 g.z.push(zs);
             }
-            for (set, (_, lines)) in sets.iter_mut().zip(&phases) {
-                let flat: Vec<[f64; 3]> = lines.iter().flat_map(|l| l.iter().map(|&k| pos[k])).collect();
-                set.set_positions(&flat)
-                    .map_err(|e| ReportError::Analysis(format!("clearance geometry: {e}")))?;
-            }
-            for (q, &(i, j)) in pair_ids.iter().enumerate() {
-                let hit = searches[q].search(&sets[i], &sets[j]);
-                work.1 += searches[q].stats().segment_pairs;
-                let a = hit.map_or(Approach { distance: f64::INFINITY, point: [f64::NAN; 3] }, |h| {
-                    Approach { distance: h.distance, point: h.point_a }
-                });
+            for (q, a) in o.pairs.into_iter().enumerate() {
                 pairs[q].1.push(a);
             }
-            if let Some(profile) = &profile {
-                for (q, set) in sets.iter().enumerate() {
-                    let hit = min_vertical_clearance(set, profile);
-                    ground[q]
-                        .1
-                        .push(hit.map_or(Approach { distance: f64::INFINITY, point: [f64::NAN; 3] }, |h| {
-                            Approach { distance: h.clearance, point: h.point }
-                        }));
-                }
+            work.1 += o.segment_pairs;
+            for (q, a) in o.ground.into_iter().enumerate() {
+                ground[q].1.push(a);
             }
-            let f = &axial[r * e_count..(r + 1) * e_count];
-            for (k, s) in model.spans.iter().enumerate() {
-                span_tension[k]
-                    .push(f[s.elements.0..s.elements.1].iter().fold(f64::NEG_INFINITY, |a, &b| a.max(b)));
+            for (k, t) in o.span_tension.into_iter().enumerate() {
+                span_tension[k].push(t);
             }
-            for (k, s) in model.strings.iter().enumerate() {
-                string_tension[k].push(s.elements.iter().map(|&e| f[e]).fold(f64::NEG_INFINITY, f64::max));
+            for (k, t) in o.string_tension.into_iter().enumerate() {
+                string_tension[k].push(t);
             }
-            let sf = &forces[r * s_count * 3..(r + 1) * s_count * 3];
-            for (k, series) in support_force.iter_mut().enumerate() {
-                series.push([sf[3 * k], sf[3 * k + 1], sf[3 * k + 2]]);
+            for (k, f) in o.support_force.into_iter().enumerate() {
+                support_force[k].push(f);
             }
         }
         start = end;
@@ -239,4 +227,102 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
         support_force,
         clearance_work: work,
     })
+}
+
+/// Per-worker geometry of [`read_series`].
+#[derive(Clone)]
+struct Scratch {
+    pos: Vec<[f64; 3]>,
+    sets: Vec<PolylineSet>,
+    searches: Vec<ClearanceSearch>,
+}
+
+/// What one record adds to the series.
+struct RecordOut {
+    stations: Vec<(Vec<f64>, Vec<f64>)>,
+    pairs: Vec<Approach>,
+    segment_pairs: u64,
+    ground: Vec<Approach>,
+    span_tension: Vec<f64>,
+    string_tension: Vec<f64>,
+    support_force: Vec<[f64; 3]>,
+}
+
+#[allow(clippy::too_many_arguments)]
+fn one_record(
+    model: &ModelInfo,
+    spans: &[SpanStations],
+    phases: &[(usize, Vec<Vec<usize>>)],
+    pair_ids: &[(usize, usize)],
+    profile: Option<&GroundProfile>,
+    sc: &mut Scratch,
+    d: &[f64],
+    f: &[f64],
+    sf: &[f64],
+) -> Result<RecordOut, ReportError> {
+    for (k, p) in sc.pos.iter_mut().enumerate() {
+        let s = model.static_position[k];
+        *p = [s[0] + d[3 * k], s[1] + d[3 * k + 1], s[2] + d[3 * k + 2]];
+    }
+    let stations = spans
+        .iter()
+        .map(|g| {
+            let m = g.subconductors.len() as f64;
+            let count = g.subconductors[0].len();
+            let (mut ys, mut zs) = (Vec::with_capacity(count), Vec::with_capacity(count));
+            for i in 0..count {
+                let (mut y, mut z) = (0.0, 0.0);
+                for sub in &g.subconductors {
+                    let k = sub[i];
+                    y += d[3 * k] * g.across[0] + d[3 * k + 1] * g.across[1];
+                    z += d[3 * k + 2];
+                }
+                ys.push(y / m);
+                zs.push(z / m);
+            }
+            (ys, zs)
+        })
+        .collect();
+    for (set, (_, lines)) in sc.sets.iter_mut().zip(phases) {
+        let flat: Vec<[f64; 3]> = lines.iter().flat_map(|l| l.iter().map(|&k| sc.pos[k])).collect();
+        set.set_positions(&flat).map_err(|e| ReportError::Analysis(format!("clearance geometry: {e}")))?;
+    }
+    let mut segment_pairs = 0;
+    let pairs = pair_ids
+        .iter()
+        .enumerate()
+        .map(|(q, &(i, j))| {
+            let hit = sc.searches[q].search(&sc.sets[i], &sc.sets[j]);
+            segment_pairs += sc.searches[q].stats().segment_pairs;
+            hit.map_or(Approach { distance: f64::INFINITY, point: [f64::NAN; 3] }, |h| Approach {
+                distance: h.distance,
+                point: h.point_a,
+            })
+        })
+        .collect();
+    let ground = match profile {
+        Some(profile) => sc
+            .sets
+            .iter()
+            .map(|set| {
+                min_vertical_clearance(set, profile).map_or(
+                    Approach { distance: f64::INFINITY, point: [f64::NAN; 3] },
+                    |h| Approach { distance: h.clearance, point: h.point },
+                )
+            })
+            .collect(),
+        None => Vec::new(),
+    };
+    let span_tension = model
+        .spans
+        .iter()
+        .map(|s| f[s.elements.0..s.elements.1].iter().fold(f64::NEG_INFINITY, |a, &b| a.max(b)))
+        .collect();
+    let string_tension = model
+        .strings
+        .iter()
+        .map(|s| s.elements.iter().map(|&e| f[e]).fold(f64::NEG_INFINITY, f64::max))
+        .collect();
+    let support_force = (0..sf.len() / 3).map(|k| [sf[3 * k], sf[3 * k + 1], sf[3 * k + 2]]).collect();
+    Ok(RecordOut { stations, pairs, segment_pairs, ground, span_tension, string_tension, support_force })
 }

@@ -9,6 +9,12 @@
 //!   velocity and twist rate in the relative wind, so their derivatives
 //!   give the aerodynamic stiffness K and damping D of the Newton matrix.
 //!
+//! Element loop: every element's force and tangent (and every aerodynamic
+//! element's load and Jacobians) is computed in parallel (rayon) into its
+//! own block, then the blocks are added into the global vectors and
+//! matrices one after another in element order, so the sums, and the
+//! results, are the same bit for bit on any number of threads.
+//!
 //! Rotations: the solver's unknowns for rotational DOF are spatial
 //! rotation-vector increments, applied as `R ← exp(Δθ̂) R`; angular
 //! velocities and accelerations are spatial vectors on which the Newmark
@@ -24,6 +30,40 @@ use crate::model::{Model, DOF_PER_NODE};
 use glaze_elements::{so3, ElementContext, NodeState};
 use glaze_solvers::{Assembler, EvalError, SecondOrderSystem, SparsityPattern};
 use nalgebra::Vector3;
+use rayon::prelude::*;
+
+/// Elements per rayon task of the element loops (small enough to balance
+/// two cores on the smallest sections, large enough to amortise a task).
+const ELEMENTS_PER_TASK: usize = 32;
+
+/// One element's inputs and outputs in the parallel element loop,
+/// allocated once.
+#[derive(Debug, Default)]
+struct ElementBlock {
+    nodes: Vec<NodeState>,
+    f: Vec<f64>,
+    k: Vec<f64>,
+}
+
+/// One aerodynamic element's block: load, ∂/∂q and ∂/∂v, and a failure.
+#[derive(Debug, Default)]
+struct AeroBlock {
+    element: usize,
+    nodes: Vec<NodeState>,
+    velocity: [NodeVelocity; 2],
+    f: Vec<f64>,
+    k: Vec<f64>,
+    d: Vec<f64>,
+    failure: Option<String>,
+}
+
+/// The trial or committed states of the nodes of `element` into `out`.
+fn gather_into(model: &Model, config: &Configuration, element: usize, out: &mut Vec<NodeState>) {
+    out.clear();
+    for &n in model.elements[element].nodes() {
+        out.push(NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] });
+    }
+}
 
 /// Dynamic system of a model.
 pub struct DynamicSystem<'m> {
@@ -38,13 +78,14 @@ pub struct DynamicSystem<'m> {
     pub trial: Configuration,
     wind_ramp: f64,
     gather: Vec<NodeState>,
-    f_local: Vec<f64>,
     k_local: Vec<f64>,
     /// Internal force at the last evaluation, on the equations.
     pub internal_force: Vec<f64>,
     /// Aerodynamic force at the last evaluation, on the equations.
     pub aero_force: Vec<f64>,
     weight_norm: f64,
+    blocks: Vec<ElementBlock>,
+    aero_blocks: Vec<AeroBlock>,
 }
 
 impl<'m> DynamicSystem<'m> {
@@ -73,7 +114,6 @@ impl<'m> DynamicSystem<'m> {
             trial: start.clone(),
             wind_ramp,
             gather: Vec::with_capacity(max_nodes),
-            f_local: vec![0.0; m],
             k_local: vec![0.0; m * m],
             internal_force: vec![0.0; model.dofs.len()],
             aero_force: vec![0.0; model.dofs.len()],
@@ -86,6 +126,26 @@ impl<'m> DynamicSystem<'m> {
                 .map(|(_, f)| f * f)
                 .sum::<f64>()
                 .sqrt(),
+            blocks: model
+                .elements
+                .iter()
+                .map(|e| {
+                    let n = e.nodes().len();
+                    let m = n * DOF_PER_NODE;
+                    ElementBlock { nodes: Vec::with_capacity(n), f: vec![0.0; m], k: vec![0.0; m * m] }
+                })
+                .collect(),
+            aero_blocks: (0..model.elements.len())
+                .filter(|&e| model.aero[e].is_some())
+                .map(|element| AeroBlock {
+                    element,
+                    nodes: Vec::with_capacity(2),
+                    f: vec![0.0; 2 * DOF_PER_NODE],
+                    k: vec![0.0; 4 * DOF_PER_NODE * DOF_PER_NODE],
+                    d: vec![0.0; 4 * DOF_PER_NODE * DOF_PER_NODE],
+                    ..AeroBlock::default()
+                })
+                .collect(),
         };
         let mut mass = vec![0.0; s.pattern.nnz()];
         for e in 0..model.elements.len() {
@@ -143,10 +203,6 @@ impl<'m> DynamicSystem<'m> {
         }
     }
 
-    fn node_velocity(&self, v: &[f64], node: usize) -> NodeVelocity {
-        node_velocity(self.model, v, node)
-    }
-
     /// g, K, D at the trial (or committed) configuration.
     fn internal(
         &mut self,
@@ -167,18 +223,23 @@ impl<'m> DynamicSystem<'m> {
             d.fill(0.0);
         }
         let ctx = ElementContext { temperature_change: self.model.temperature_change };
-        for e in 0..self.model.elements.len() {
-            self.gather_nodes(e, true);
-            let element = &self.model.elements[e];
-            let m = element.nodes().len() * DOF_PER_NODE;
-            match k.as_deref_mut() {
-                Some(k) => {
-                    element.tangent(&ctx, &self.gather, &mut self.f_local[..m], &mut self.k_local[..m * m]);
-                    self.assembler.add_matrix(e, &self.k_local[..m * m], k);
-                }
-                None => element.internal_force(&ctx, &self.gather, &mut self.f_local[..m]),
+        let model = self.model;
+        let config = &self.trial;
+        let tangent = k.is_some();
+        self.blocks.par_iter_mut().with_min_len(ELEMENTS_PER_TASK).enumerate().for_each(|(e, b)| {
+            gather_into(model, config, e, &mut b.nodes);
+            let element = &model.elements[e];
+            if tangent {
+                element.tangent(&ctx, &b.nodes, &mut b.f, &mut b.k);
+            } else {
+                element.internal_force(&ctx, &b.nodes, &mut b.f);
             }
-            self.assembler.add_vector(e, &self.f_local[..m], &mut self.internal_force);
+        });
+        for (e, b) in self.blocks.iter().enumerate() {
+            if let Some(k) = k.as_deref_mut() {
+                self.assembler.add_matrix(e, &b.k, k);
+            }
+            self.assembler.add_vector(e, &b.f, &mut self.internal_force);
         }
         g.copy_from_slice(&self.internal_force);
         for (i, eq) in self.model.dofs.all().iter().enumerate() {
@@ -188,54 +249,57 @@ impl<'m> DynamicSystem<'m> {
         }
         let scale = self.wind_factor(t).sqrt();
         if let (true, Some(wind), true) = (with_wind, self.model.wind, scale > 0.0) {
-            const M: usize = 2 * DOF_PER_NODE;
-            for e in 0..self.model.elements.len() {
-                let Some(aero) = &self.model.aero[e] else { continue };
-                self.gather_nodes(e, true);
-                let ids = self.model.elements[e].nodes();
-                let vel = [self.node_velocity(v, ids[0]), self.node_velocity(v, ids[1])];
-                let fail = |err: glaze_aero::TableError| EvalError {
-                    message: format!("aerodynamic load of element {e}: {err}"),
+            let damping = d.is_some();
+            self.aero_blocks.par_iter_mut().with_min_len(ELEMENTS_PER_TASK).for_each(|b| {
+                let e = b.element;
+                let Some(aero) = &model.aero[e] else { return };
+                gather_into(model, config, e, &mut b.nodes);
+                let ids = model.elements[e].nodes();
+                b.velocity = [node_velocity(model, v, ids[0]), node_velocity(model, v, ids[1])];
+                let flow = Flow { wind: &wind, scale };
+                let mut run = || -> Result<(), glaze_aero::TableError> {
+                    if tangent {
+                        element_jacobian(
+                            aero,
+                            flow,
+                            &b.nodes,
+                            &b.velocity,
+                            Derivative::Displacement,
+                            &mut b.f,
+                            &mut b.k,
+                        )?;
+                        b.k.iter_mut().for_each(|x| *x = -*x);
+                    }
+                    if damping {
+                        element_jacobian(
+                            aero,
+                            flow,
+                            &b.nodes,
+                            &b.velocity,
+                            Derivative::Velocity,
+                            &mut b.f,
+                            &mut b.d,
+                        )?;
+                        b.d.iter_mut().for_each(|x| *x = -*x);
+                    }
+                    if !tangent && !damping {
+                        element_load(aero, flow, &b.nodes, &b.velocity, &mut b.f)?;
+                    }
+                    Ok(())
                 };
+                b.failure = run().err().map(|err| format!("aerodynamic load of element {e}: {err}"));
+            });
+            for b in &self.aero_blocks {
+                if let Some(message) = &b.failure {
+                    return Err(EvalError { message: message.clone() });
+                }
                 if let Some(k) = k.as_deref_mut() {
-                    element_jacobian(
-                        aero,
-                        Flow { wind: &wind, scale },
-                        &self.gather,
-                        &vel,
-                        Derivative::Displacement,
-                        &mut self.f_local[..M],
-                        &mut self.k_local[..M * M],
-                    )
-                    .map_err(fail)?;
-                    self.k_local[..M * M].iter_mut().for_each(|x| *x = -*x);
-                    self.assembler.add_matrix(e, &self.k_local[..M * M], k);
+                    self.assembler.add_matrix(b.element, &b.k, k);
                 }
                 if let Some(d) = d.as_deref_mut() {
-                    element_jacobian(
-                        aero,
-                        Flow { wind: &wind, scale },
-                        &self.gather,
-                        &vel,
-                        Derivative::Velocity,
-                        &mut self.f_local[..M],
-                        &mut self.k_local[..M * M],
-                    )
-                    .map_err(fail)?;
-                    self.k_local[..M * M].iter_mut().for_each(|x| *x = -*x);
-                    self.assembler.add_matrix(e, &self.k_local[..M * M], d);
+                    self.assembler.add_matrix(b.element, &b.d, d);
                 }
-                if k.is_none() && d.is_none() {
-                    element_load(
-                        aero,
-                        Flow { wind: &wind, scale },
-                        &self.gather,
-                        &vel,
-                        &mut self.f_local[..M],
-                    )
-                    .map_err(fail)?;
-                }
-                self.assembler.add_vector(e, &self.f_local[..M], &mut self.aero_force);
+                self.assembler.add_vector(b.element, &b.f, &mut self.aero_force);
             }
             for (gi, fa) in g.iter_mut().zip(&self.aero_force) {
                 *gi -= fa;
