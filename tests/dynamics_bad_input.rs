@@ -229,3 +229,28 @@ fn a_perturbation_gives_either_a_translation_or_a_twist() {
     );
     assert!(input::load_str(Path::new("ok.toml"), &text, &registry).is_ok());
 }
+
+#[test]
+fn checkpoint_intervals_must_be_positive_times() {
+    let registry = ElementRegistry::with_builtin();
+    for (key, value) in
+        [("every_simulated", "-1.0"), ("every_simulated", "0.0"), ("every_wall_minutes", "nan")]
+    {
+        let text =
+            input_text(&format!("duration = 10.0\ntime_step = 0.01\n[dynamics.checkpoint]\n{key} = {value}"));
+        let err = input::load_str(Path::new("bad_dynamics.toml"), &text, &registry).unwrap_err();
+        assert_eq!(err.key, format!("dynamics.checkpoint.{key}"), "{err}");
+        assert_eq!((err.kind, err.line), (InputErrorKind::InvalidValue, line_of_key(&text, key)), "{err}");
+        assert!(err.message.contains("positive"), "{err}");
+    }
+    // Defaults: every 5 wall minutes; a simulated interval adds to it.
+    let load = |body: &str| {
+        let text = input_text(&format!("duration = 10.0\ntime_step = 0.01\n{body}"));
+        input::load_str(Path::new("ok.toml"), &text, &registry).unwrap().dynamics.unwrap().checkpoint
+    };
+    let c = load("");
+    assert!(c.enabled && c.every_simulated.is_none() && c.every_wall_minutes == Some(5.0), "{c:?}");
+    let c = load("[dynamics.checkpoint]\nevery_simulated = 10.0");
+    assert!(c.every_simulated == Some(10.0) && c.every_wall_minutes == Some(5.0), "{c:?}");
+    assert!(!load("[dynamics.checkpoint]\nenabled = false").enabled);
+}

@@ -6,7 +6,8 @@
 //! 5 `glaze post` refused the results file (incomplete, other format version, unreadable);
 //! 6 `glaze sweep`: some cases failed, `glaze compare`: some cases are not complete;
 //! 7 `glaze bench --against`: a results fingerprint changed beyond the tolerance;
-//! 130 stopped by a signal.
+//! 8 `glaze run`: the time integration diverged (report printed, records kept as `OUT.partial`);
+//! 130 stopped by a signal. `glaze run --resume` refusing (no checkpoint, another input) is 2.
 
 mod commands;
 
@@ -63,6 +64,10 @@ enum Command {
         /// Results file to write (HDF5).
         #[arg(long, short)]
         out: PathBuf,
+        /// Continue an interrupted run from `OUT.checkpoint`, appending to
+        /// `OUT.partial`; the finished file is the one an uninterrupted run writes.
+        #[arg(long)]
+        resume: bool,
     },
     /// Galloping-onset screening: modes and their aerodynamic damping over
     /// the wind speeds of `[screening]`, with the onset speed of each mode.
@@ -183,7 +188,7 @@ fn main() -> ExitCode {
         Command::Modes { file, count, out, method } => {
             engine_exit(commands::run_modes(file, *count, *method, out, q))
         }
-        Command::Run { file, out } => engine_exit(commands::run(file, out, q)),
+        Command::Run { file, out, resume } => engine_exit(commands::run(file, out, *resume, q)),
         Command::Screen { file, format } => engine_exit(commands::run_screen(file, *format)),
         Command::Post { results, out, allow_incomplete, no_xdmf } => {
             match commands::post(results, out.as_ref(), *allow_incomplete, !*no_xdmf, q) {

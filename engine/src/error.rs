@@ -81,4 +81,21 @@ pub enum GlazeError {
         /// What went wrong and what to try.
         message: String,
     },
+    /// The time integration diverged (non-finite values, or a step that
+    /// failed even at the smallest step size): the report names the time,
+    /// the worst DOF and where it is, and what to try.
+    #[error("{report}")]
+    Diverged {
+        /// The divergence report, several lines.
+        report: String,
+    },
+    /// `glaze run --resume` cannot continue: no checkpoint, one of another
+    /// input, or no partial results file to go on with.
+    #[error("cannot resume from {}: {message}", path.display())]
+    Resume {
+        /// The checkpoint or partial results file.
+        path: PathBuf,
+        /// What is missing or different.
+        message: String,
+    },
 }

@@ -202,6 +202,31 @@ pub struct DynamicsSpec {
     pub damping: DampingSpec,
     /// Initial perturbation along a mode.
     pub perturbation: Option<Perturbation>,
+    /// When `glaze run` writes its checkpoint.
+    pub checkpoint: CheckpointSpec,
+}
+
+/// `[dynamics.checkpoint]`: a checkpoint is written at the first output
+/// record after either interval has passed since the last one.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CheckpointSpec {
+    /// Whether checkpoints are written at all.
+    pub enabled: bool,
+    /// Simulated time between checkpoints, in s (`None`: by wall time only).
+    pub every_simulated: Option<f64>,
+    /// Wall time between checkpoints, in minutes (default 5).
+    pub every_wall_minutes: Option<f64>,
+}
+
+impl CheckpointSpec {
+    /// Default wall time between checkpoints, in minutes (common practice).
+    pub const DEFAULT_WALL_MINUTES: f64 = 5.0;
+}
+
+impl Default for CheckpointSpec {
+    fn default() -> Self {
+        Self { enabled: true, every_simulated: None, every_wall_minutes: Some(Self::DEFAULT_WALL_MINUTES) }
+    }
 }
 
 /// Largest rotation a perturbation may put in, rad (0.5 rad ≈ 29°): beyond

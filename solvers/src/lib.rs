@@ -62,8 +62,8 @@ mod sparse;
 mod test_util;
 
 pub use dynamics::{
-    AlphaParameters, IntegrationStats, Integrator, IntegratorSettings, Predictor, Scheme, SecondOrderSystem,
-    StepReport,
+    AlphaParameters, IntegrationStats, Integrator, IntegratorSettings, IntegratorState, Predictor, Scheme,
+    SecondOrderSystem, StepReport,
 };
 pub use eigen::{dense_shift_invert, lanczos_shift_invert, EigenPairs, EigenSettings};
 pub use error::{EvalError, SolverError};

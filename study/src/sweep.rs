@@ -122,7 +122,8 @@ pub fn case_dir(out: &Path, id: &str) -> PathBuf {
 pub struct CaseFailure {
     /// Case identifier.
     pub id: String,
-    /// `input`, `analysis`, `results`, `report` or `internal`.
+    /// `input`, `analysis`, `diverged` (the time integration; the report
+    /// says where and why), `results`, `report` or `internal`.
     pub stage: String,
     /// The error message.
     pub message: String,
@@ -153,6 +154,8 @@ fn stage_of(e: &GlazeError) -> &'static str {
         GlazeError::Input(_) => "input",
         GlazeError::Results { .. } => "results",
         GlazeError::Analysis { .. } => "analysis",
+        GlazeError::Diverged { .. } => "diverged",
+        GlazeError::Resume { .. } => "input",
     }
 }
 
@@ -188,6 +191,14 @@ fn run_case(case: &Case, out: &Path, stop: &AtomicBool) -> Result<CaseResult, St
     };
     let summary = match run_dynamic(&spec, registry, &writer, stop, &mut |_| {}) {
         Ok(s) => s,
+        Err(GlazeError::Diverged { report }) => {
+            // The records up to the divergence stay for inspection, marked incomplete.
+            let kept = match writer.keep_incomplete(start.elapsed().as_secs_f64()) {
+                Ok(_) => "records kept in result.h5.partial (marked incomplete)".to_string(),
+                Err(e) => format!("the results could not be kept: {e}"),
+            };
+            return fail("diverged", format!("{report}\n  {kept}"));
+        }
         Err(e) => {
             drop(writer);
             clear(&dir);

@@ -98,5 +98,7 @@ pub fn exit_code(e: &GlazeError) -> u8 {
         GlazeError::Input(_) => 2,
         GlazeError::Results { .. } => 4,
         GlazeError::Analysis { .. } => 3,
+        GlazeError::Diverged { .. } => 8,
+        GlazeError::Resume { .. } => 2,
     }
 }

@@ -1,9 +1,10 @@
-//! `glaze run FILE --out RESULT.h5`: static state, then the nonlinear time
-//! simulation with histories streamed to the results file.
+//! `glaze run FILE --out RESULT.h5 [--resume]`: static state, then the
+//! nonlinear time simulation with histories streamed to the results file,
+//! checkpointed in `RESULT.h5.checkpoint` for `--resume`.
 
 use super::CAUTION;
-use glaze_engine::analysis::dynamic_stage::{run_dynamic, Progress};
-use glaze_engine::results::{preflight, ResultsWriter};
+use glaze_engine::analysis::dynamic_stage::{run_dynamic_with, Progress, RunControl};
+use glaze_engine::results::{checkpoint_path, partial_path, preflight, Checkpoint, ResultsWriter};
 use glaze_engine::{input, model, ElementRegistry, GlazeError};
 use indicatif::{ProgressBar, ProgressStyle};
 use std::io::IsTerminal;
@@ -12,9 +13,11 @@ use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 use std::time::Instant;
 
-/// Runs `file` and writes `out`. Ctrl-C stops at the next output interval
-/// and keeps what was written, marked incomplete, under `OUT.partial`.
-pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
+/// Runs `file` and writes `out`. Ctrl-C (or SIGTERM, SIGHUP) stops at the
+/// next output interval, writes a checkpoint and keeps what was written,
+/// marked incomplete, under `OUT.partial`; `resume` continues such a run
+/// from `OUT.checkpoint`.
+pub fn run(file: &Path, out: &Path, resume: bool, quiet: bool) -> Result<(), GlazeError> {
     let start = Instant::now();
     let registry = ElementRegistry::with_builtin();
     let spec = input::load(file, &registry)?;
@@ -29,17 +32,30 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
             }
         });
     }
-    // Before any work: the folder takes the file and the disk has room
-    // for the histories (building the model is cheap next to the run).
-    if let Some(dynamics) = &spec.dynamics {
-        let model = model::build(&spec, &registry)?;
-        preflight::check(out, preflight::run_bytes(&model, dynamics))?;
-    }
-    let writer = match ResultsWriter::create(out, &spec.source) {
-        Ok(w) => w,
-        Err(e) => {
-            super::remove_results(out);
-            return Err(e);
+    let (writer, checkpoint) = if resume {
+        let checkpoint = match Checkpoint::read(out, &spec.source) {
+            // Without the partial file, say that first (or that `out` is complete).
+            Err(e) if !partial_path(out).exists() => {
+                return Err(ResultsWriter::reopen(out, &spec.source).err().unwrap_or(e))
+            }
+            r => r?,
+        };
+        (ResultsWriter::reopen(out, &spec.source)?, Some(checkpoint))
+    } else {
+        // A checkpoint of an earlier run would not fit the new file.
+        Checkpoint::remove(out);
+        // Before any work: the folder takes the file and the disk has room
+        // for the histories (building the model is cheap next to the run).
+        if let Some(dynamics) = &spec.dynamics {
+            let model = model::build(&spec, &registry)?;
+            preflight::check(out, preflight::run_bytes(&model, dynamics))?;
+        }
+        match ResultsWriter::create(out, &spec.source) {
+            Ok(w) => (w, None),
+            Err(e) => {
+                super::remove_results(out);
+                return Err(e);
+            }
         }
     };
     let duration = spec.dynamics.as_ref().map_or(0.0, |d| d.duration);
@@ -75,29 +91,66 @@ pub fn run(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError> {
             None => {}
         }
     };
-    let summary = match run_dynamic(&spec, &registry, &writer, &stop, &mut on_progress) {
+    let prior_wall = checkpoint.as_ref().map_or(0.0, |c| c.wall_time_s);
+    let mut control = RunControl { stop: &stop, checkpoints: true, resume: checkpoint };
+    let summary = match run_dynamic_with(&spec, &registry, &writer, &mut control, &mut on_progress) {
         Ok(s) => s,
+        Err(GlazeError::Diverged { report }) => {
+            if let Some(b) = &bar {
+                b.finish_and_clear();
+            }
+            // Resuming would diverge again: the checkpoint goes, the records stay.
+            Checkpoint::remove(out);
+            let kept = match writer.keep_incomplete(prior_wall + start.elapsed().as_secs_f64()) {
+                Ok(p) => format!("results kept in {} (marked incomplete)", p.display()),
+                Err(e) => format!("the results could not be kept: {e}"),
+            };
+            return Err(GlazeError::Diverged {
+                report: format!(
+                    "{report}
+  {kept}"
+                ),
+            });
+        }
+        Err(e) if resume => {
+            // The partial file and the checkpoint stay for another try.
+            drop(writer);
+            return Err(super::one_line(e));
+        }
         Err(e) => {
             drop(writer);
+            Checkpoint::remove(out);
             return Err(super::write_failed(e, out));
         }
     };
     if let Some(b) = &bar {
         b.finish_and_clear();
     }
+    let wall = summary.prior_wall_time_s + start.elapsed().as_secs_f64();
     if summary.interrupted {
-        let kept = writer.keep_incomplete(start.elapsed().as_secs_f64())?;
+        let kept = writer.keep_incomplete(wall)?;
+        let cp = checkpoint_path(out);
+        let again = if cp.is_file() {
+            format!(
+                "; checkpoint {}: `glaze run {} --out {} --resume` continues",
+                cp.display(),
+                file.display(),
+                out.display()
+            )
+        } else {
+            String::new()
+        };
         eprintln!(
-            "glaze run: interrupted at t = {:.3} s of {duration} s; {} records kept in {} (marked incomplete)",
+            "glaze run: interrupted at t = {:.3} s of {duration} s; {} records kept in {} (marked incomplete){again}",
             summary.time,
             summary.records,
             kept.display()
         );
         std::process::exit(130);
     }
-    let path = writer.finish(start.elapsed().as_secs_f64()).map_err(|e| super::write_failed(e, out))?;
+    let path = writer.finish(wall).map_err(|e| super::write_failed(e, out))?;
+    Checkpoint::remove(out);
     if !quiet {
-        let wall = start.elapsed().as_secs_f64();
         out!(
             "{} s simulated in {wall:.1} s wall ({:.1}× real time): {} steps ({} cut back), {} Newton iterations ({:.2}/step), {} factorisations ({:.2}/step)",
             summary.time,

@@ -11,7 +11,7 @@ use crate::error::{GlazeError, InputErrorKind};
 use crate::input::Locator;
 use crate::model::{self, Model, DOF_PER_NODE};
 use crate::registry::ElementRegistry;
-use crate::results::{HistoryWriter, Record, ResultsWriter};
+use crate::results::{Checkpoint, EnergyState, HistoryWriter, Record, ResultsWriter};
 use crate::spec::{
     DampingSpec, DynamicsSpec, Perturbation, PerturbationSize, PerturbationStart, SchemeSpec, SectionSpec,
     MAX_PERTURBATION_TWIST,
@@ -19,6 +19,7 @@ use crate::spec::{
 use glaze_elements::{ElementContext, NodeState};
 use glaze_solvers::{Integrator, IntegratorSettings, NewtonSettings, Scheme, SecondOrderSystem};
 use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::Instant;
 
 /// Progress of a run, reported after every output interval.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -57,15 +58,45 @@ pub struct DynamicSummary {
     /// Frequency (Hz) and Rayleigh damping ratio of each mode computed for
     /// the fit, as a check of the fit.
     pub modal_damping: Vec<(f64, f64)>,
+    /// Wall time of the run before this process resumed it, s (0 for a fresh run).
+    pub prior_wall_time_s: f64,
+}
+
+/// Stopping, checkpoints and resume of a run.
+pub struct RunControl<'a> {
+    /// Polled between output intervals: a set flag stops the run there.
+    pub stop: &'a AtomicBool,
+    /// Write checkpoints (`TARGET.checkpoint`) as `[dynamics.checkpoint]`
+    /// says, and one when stopped.
+    pub checkpoints: bool,
+    /// Continue from this checkpoint; the writer must be reopened
+    /// ([`ResultsWriter::reopen`]).
+    pub resume: Option<Checkpoint>,
 }
 
 /// Runs the dynamic stage of `spec`, writing `/model`, `/static` and
 /// `/dynamic` into `writer`. `stop` is polled between output intervals.
+/// No checkpoints (see [`run_dynamic_with`]).
 pub fn run_dynamic(
     spec: &SectionSpec,
     registry: &ElementRegistry,
     writer: &ResultsWriter,
     stop: &AtomicBool,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<DynamicSummary, GlazeError> {
+    let mut control = RunControl { stop, checkpoints: false, resume: None };
+    run_dynamic_with(spec, registry, writer, &mut control, progress)
+}
+
+/// [`run_dynamic`] with checkpoints and resume. A run that diverges keeps
+/// its finite records and the last converged state (`/divergence`) in the
+/// writer's file and returns [`GlazeError::Diverged`]: the caller keeps
+/// the file incomplete ([`ResultsWriter::keep_incomplete`]).
+pub fn run_dynamic_with(
+    spec: &SectionSpec,
+    registry: &ElementRegistry,
+    writer: &ResultsWriter,
+    control: &mut RunControl<'_>,
     progress: &mut dyn FnMut(Progress),
 ) -> Result<DynamicSummary, GlazeError> {
     let loc = Locator::new(&spec.file, &spec.source);
@@ -152,7 +183,7 @@ pub fn run_dynamic(
             .collect()
     });
     let mut summary =
-        integrate(spec, dynamics, &model, &state.config, system, v0, writer, stop, progress, rayleigh)?;
+        integrate(spec, dynamics, &model, &state.config, system, v0, writer, control, progress, rayleigh)?;
     summary.modal_damping = modal_damping;
     Ok(summary)
 }
@@ -237,52 +268,125 @@ fn integrate(
     system: DynamicSystem<'_>,
     v0: Vec<f64>,
     writer: &ResultsWriter,
-    stop: &AtomicBool,
+    control: &mut RunControl<'_>,
     progress: &mut dyn FnMut(Progress),
     rayleigh: Rayleigh,
 ) -> Result<DynamicSummary, GlazeError> {
-    let mut history =
-        HistoryWriter::create(writer, model.node_count(), model.elements.len(), model.support_nodes.len())?;
-    let first_config = system.committed.clone();
-    let first_config_positions = first_config.positions.clone();
+    let started = Instant::now();
+    let dims = (model.node_count(), model.elements.len(), model.support_nodes.len());
+    let fingerprint = system_fingerprint(&system);
     let mut system = system;
     let start_error = |e: glaze_solvers::SolverError| GlazeError::Analysis {
         message: format!("the dynamic run could not start: {e}"),
     };
-    let mut integ = match initial_acceleration(&mut system, &v0) {
-        None => Integrator::new(system, v0.clone(), 0.0, settings(d)).map_err(start_error)?,
-        Some(a0) => {
-            let a0 = a0.map_err(start_error)?;
-            Integrator::with_initial_acceleration(system, v0.clone(), a0, 0.0, settings(d))
-                .map_err(start_error)?
+    let resume = control.resume.take();
+    let prior_wall = resume.as_ref().map_or(0.0, |c| c.wall_time_s);
+    let (mut history, mut integ, mut energy, first_output) = match resume {
+        None => {
+            let mut history = HistoryWriter::create(writer, dims.0, dims.1, dims.2)?;
+            let first_config = system.committed.clone();
+            let origin = first_config.positions.clone();
+            let integ = match initial_acceleration(&mut system, &v0) {
+                None => Integrator::new(system, v0.clone(), 0.0, settings(d)).map_err(start_error)?,
+                Some(a0) => {
+                    let a0 = a0.map_err(start_error)?;
+                    Integrator::with_initial_acceleration(system, v0.clone(), a0, 0.0, settings(d))
+                        .map_err(start_error)?
+                }
+            };
+            let mut energy = Energy {
+                initial_strain: None,
+                dissipated: 0.0,
+                aero_work: 0.0,
+                f_int: integ.system().internal_force.clone(),
+                f_aero: integ.system().aero_force.clone(),
+                v: v0,
+                config: first_config,
+                time: 0.0,
+                worst: 0.0,
+                initial_total: None,
+                origin,
+            };
+            history.push(record(model, start, &integ, &mut energy))?;
+            (history, integ, energy, 1)
+        }
+        Some(cp) => {
+            let path = crate::results::checkpoint_path(writer.target());
+            let refuse = |message: String| GlazeError::Resume { path: path.clone(), message };
+            if cp.system_fingerprint != fingerprint
+                || cp.positions.len() != dims.0
+                || cp.rotations.len() != dims.0
+            {
+                return Err(refuse(
+                    "the model this input builds differs from the checkpoint's (another glaze build?); run \
+                     again without --resume"
+                        .into(),
+                ));
+            }
+            for (n, (p, r)) in cp.positions.iter().zip(&cp.rotations).enumerate() {
+                system.committed.positions[n] = nalgebra::Vector3::from(*p);
+                system.committed.rotations[n] = nalgebra::Matrix3::from_column_slice(r);
+            }
+            system.trial.clone_from(&system.committed);
+            let history = HistoryWriter::reopen(writer, dims, cp.records_written, cp.buffered)?;
+            if let (Some(t), Some(last)) = (cp.last_written_time, cp.records_written.checked_sub(1)) {
+                if history.written_time(last)?.to_bits() != t.to_bits() {
+                    return Err(refuse(format!(
+                        "the results file does not hold the checkpoint's records (record {last} is not at \
+                         t = {t} s); run again without --resume"
+                    )));
+                }
+            }
+            let integ = Integrator::resume(system, cp.integrator, settings(d))
+                .map_err(|e| refuse(format!("the integrator state does not fit the model: {e}")))?;
+            let config = integ.system().committed.clone();
+            let e = cp.energy;
+            let energy = Energy {
+                initial_strain: e.initial_strain,
+                dissipated: e.dissipated,
+                aero_work: e.aero_work,
+                f_int: e.f_int,
+                f_aero: e.f_aero,
+                v: e.v,
+                config,
+                time: e.time,
+                worst: e.worst,
+                initial_total: e.initial_total,
+                origin: e.origin.into_iter().map(nalgebra::Vector3::from).collect(),
+            };
+            (history, integ, energy, cp.next_output)
         }
     };
-    let mut energy = Energy {
-        initial_strain: None,
-        dissipated: 0.0,
-        aero_work: 0.0,
-        f_int: integ.system().internal_force.clone(),
-        f_aero: integ.system().aero_force.clone(),
-        v: v0,
-        config: first_config,
-        time: 0.0,
-        worst: 0.0,
-        initial_total: None,
-        origin: first_config_positions,
-    };
-    history.push(record(model, start, &integ, &mut energy))?;
     let outputs = (d.duration / d.output_interval - 1e-9).ceil() as usize;
+    // Time and axial forces of the last record, for a divergence report.
+    let mut last_record = history.buffered().last().map(|r| (r.time, r.axial_force.clone()));
+    let policy = &d.checkpoint;
+    let mut last_checkpoint = (integ.time(), Instant::now());
+    let extent = model_extent(model);
     let mut interrupted = false;
-    for k in 1..=outputs {
-        if stop.load(Ordering::Relaxed) {
+    let mut next = first_output;
+    while next <= outputs {
+        let k = next;
+        if control.stop.load(Ordering::Relaxed) {
             interrupted = true;
             break;
         }
         let t_k = (k as f64 * d.output_interval).min(d.duration);
-        integ.advance_to(t_k, |i, _| accumulate(i, &mut energy)).map_err(|e| GlazeError::Analysis {
-            message: failure_report(spec, model, &integ_time(&energy), e),
-        })?;
-        history.push(record(model, start, &integ, &mut energy))?;
+        let stepped = loop {
+            match integ.step_until(t_k) {
+                Ok(Some(_)) => accumulate(&integ, &mut energy),
+                Ok(None) => break Ok(()),
+                Err(e) => break Err(Divergence::Solver(e)),
+            }
+        };
+        let rec = record(model, start, &integ, &mut energy);
+        let outcome = stepped.and_then(|()| check_record(&rec, extent));
+        if let Err(why) = outcome {
+            return Err(diverged(spec, model, writer, &mut history, &integ, last_record.as_ref(), why));
+        }
+        last_record = Some((rec.time, rec.axial_force.clone()));
+        history.push(rec)?;
+        next = k + 1;
         let stats = integ.stats();
         progress(Progress {
             time: t_k,
@@ -290,6 +394,20 @@ fn integrate(
             steps: stats.steps,
             iterations: stats.newton_iterations,
         });
+        let due =
+            policy.every_simulated.is_some_and(|s| integ.time() - last_checkpoint.0 >= s * (1.0 - 1e-9))
+                || policy
+                    .every_wall_minutes
+                    .is_some_and(|m| last_checkpoint.1.elapsed().as_secs_f64() >= 60.0 * m);
+        if control.checkpoints && policy.enabled && due && next <= outputs {
+            let wall = prior_wall + started.elapsed().as_secs_f64();
+            write_checkpoint(spec, writer, &history, &integ, &energy, fingerprint, next, wall)?;
+            last_checkpoint = (integ.time(), Instant::now());
+        }
+    }
+    if interrupted && control.checkpoints && policy.enabled {
+        let wall = prior_wall + started.elapsed().as_secs_f64();
+        write_checkpoint(spec, writer, &history, &integ, &energy, fingerprint, next, wall)?;
     }
     history.flush()?;
     let stats = integ.stats();
@@ -304,26 +422,283 @@ fn integrate(
         rayleigh: (rayleigh.mass, rayleigh.stiffness),
         energy_balance_error: energy.worst,
         modal_damping: Vec::new(),
+        prior_wall_time_s: prior_wall,
     })
 }
 
-fn integ_time(e: &Energy) -> f64 {
-    e.time
+/// Fingerprint of what a resumed run rebuilds rather than stores: sizes,
+/// mass and damping values (bits).
+fn system_fingerprint(system: &DynamicSystem<'_>) -> u64 {
+    let mut bytes = Vec::with_capacity(16 * system.mass().len() + 16);
+    bytes.extend_from_slice(&(system.dim() as u64).to_le_bytes());
+    bytes.extend_from_slice(&(system.pattern().nnz() as u64).to_le_bytes());
+    for x in system.mass().iter().chain(system.damping()) {
+        bytes.extend_from_slice(&x.to_bits().to_le_bytes());
+    }
+    crate::results::fnv1a64(&bytes)
 }
 
-fn failure_report(
+/// Flushes the results file to disk, then writes the checkpoint of the
+/// state after the record just pushed (`next` is the next record's index).
+#[allow(clippy::too_many_arguments)]
+fn write_checkpoint(
+    spec: &SectionSpec,
+    writer: &ResultsWriter,
+    history: &HistoryWriter,
+    integ: &Integrator<DynamicSystem<'_>>,
+    e: &Energy,
+    fingerprint: u64,
+    next: usize,
+    wall_time_s: f64,
+) -> Result<(), GlazeError> {
+    writer.sync()?;
+    let written = history.written();
+    let last_written_time = match written.checked_sub(1) {
+        Some(i) => Some(history.written_time(i)?),
+        None => None,
+    };
+    let config = &integ.system().committed;
+    let cp = Checkpoint {
+        input_hash: crate::results::fnv1a64(spec.source.as_bytes()),
+        system_fingerprint: fingerprint,
+        records_written: written,
+        last_written_time,
+        buffered: history.buffered().to_vec(),
+        next_output: next,
+        wall_time_s,
+        positions: config.positions.iter().map(|p| [p.x, p.y, p.z]).collect(),
+        rotations: config.rotations.iter().map(|r| std::array::from_fn(|i| r.as_slice()[i])).collect(),
+        integrator: integ.state(),
+        energy: EnergyState {
+            initial_strain: e.initial_strain,
+            dissipated: e.dissipated,
+            aero_work: e.aero_work,
+            f_int: e.f_int.clone(),
+            f_aero: e.f_aero.clone(),
+            v: e.v.clone(),
+            time: e.time,
+            worst: e.worst,
+            initial_total: e.initial_total,
+            origin: e.origin.iter().map(|p| [p.x, p.y, p.z]).collect(),
+        },
+    };
+    cp.write(writer.target())
+}
+
+/// Why a run stopped as diverged.
+enum Divergence {
+    /// The integrator gave up (non-finite values, or a step that failed at
+    /// the smallest step size).
+    Solver(glaze_solvers::SolverError),
+    /// A recorded value is not finite.
+    NonFinite(&'static str),
+    /// A node moved farther than the size of the whole model, m.
+    RanAway(f64),
+}
+
+/// Diagonal of the bounding box of the reference nodes, m (at least 1 m).
+fn model_extent(model: &Model) -> f64 {
+    let mut lo = nalgebra::Vector3::repeat(f64::INFINITY);
+    let mut hi = -lo;
+    for p in &model.nodes {
+        lo = lo.inf(p);
+        hi = hi.sup(p);
+    }
+    (hi - lo).norm().max(1.0)
+}
+
+/// A record fit to write: finite everywhere, no node moved beyond `extent`.
+fn check_record(r: &Record, extent: f64) -> Result<(), Divergence> {
+    fn finite<'a>(v: impl IntoIterator<Item = &'a f64>) -> bool {
+        v.into_iter().all(|x| x.is_finite())
+    }
+    let fields: [(&'static str, bool); 6] = [
+        ("displacement", finite(r.displacement.iter().flatten())),
+        ("rotation", finite(r.rotation.iter().flatten())),
+        ("velocity", finite(r.velocity.iter().flatten())),
+        ("element axial force", finite(&r.axial_force)),
+        ("support force", finite(r.support_force.iter().flatten())),
+        ("energy", finite(&r.energy)),
+    ];
+    if let Some((name, _)) = fields.iter().find(|(_, ok)| !ok) {
+        return Err(Divergence::NonFinite(name));
+    }
+    let largest = r.displacement.iter().flatten().fold(0.0f64, |m, x| m.max(x.abs()));
+    if largest > extent {
+        return Err(Divergence::RanAway(largest));
+    }
+    Ok(())
+}
+
+/// Names of the six nodal DOF.
+const DOF_NAMES: [&str; 6] = [
+    "u_x (along the line)",
+    "u_y (across the line)",
+    "u_z (vertical)",
+    "θ_x (rotation about X)",
+    "θ_y (rotation about Y)",
+    "θ_z (rotation about Z)",
+];
+
+/// Where node `node` is: its wire, span and chainage, or what else it is.
+pub(crate) fn describe_node(model: &Model, node: usize) -> String {
+    let chainage = model.nodes.get(node).map_or(f64::NAN, |p| p.x);
+    let mut what = Vec::new();
+    if let Some(s) = model.spans.iter().find(|s| s.nodes.contains(&node)) {
+        let span = s.route_span + 1;
+        match s.phase.and_then(|p| model.phase_names.get(p)) {
+            Some(name) => {
+                let bundle =
+                    model.spans.iter().filter(|o| o.phase == s.phase && o.route_span == s.route_span).count();
+                if bundle > 1 {
+                    what.push(format!("phase {name}, subconductor {}, span {span}", s.subconductor + 1));
+                } else {
+                    what.push(format!("phase {name}, span {span}"));
+                }
+            }
+            None => what.push(format!("span {span}")),
+        }
+    }
+    if let Some(st) = model.strings.iter().find(|st| st.yoke == node || st.hinges.contains(&node)) {
+        let tower = model.towers.get(st.tower).map_or("?", |t| t.0.as_str());
+        let phase = model.phase_names.get(st.phase).map_or("?", String::as_str);
+        what.push(format!("insulator string of phase {phase} at tower {tower}"));
+    }
+    for (group, label) in [("spacers", "spacer hub"), ("yokes", "yoke")] {
+        if model.groups.get(group).is_some_and(|g| g.contains(&node)) {
+            what.push(label.into());
+        }
+    }
+    if what.is_empty() {
+        what.push("a device or frame node".into());
+    }
+    format!("node {node} ({}, chainage {chainage:.1} m)", what.join("; "))
+}
+
+/// The equation a solver error points at, if any.
+fn worst_equation(e: &glaze_solvers::SolverError) -> Option<usize> {
+    use glaze_solvers::SolverError as E;
+    match e {
+        E::StepFailed { worst_dof: Some(d), .. } => Some(*d),
+        E::StepFailed { last, .. } => worst_equation(last),
+        E::StepNotConverged { worst_dof, .. } | E::Diverged { worst_dof, .. } => Some(*worst_dof),
+        E::NonFinite { dof, .. } => Some(*dof),
+        E::Singular { pivot, .. } => *pivot,
+        _ => None,
+    }
+}
+
+/// Ends a diverged run: writes the finite records and `/divergence`, and
+/// returns the report.
+fn diverged(
     spec: &SectionSpec,
     model: &Model,
-    last_good: &f64,
-    e: glaze_solvers::SolverError,
+    writer: &ResultsWriter,
+    history: &mut HistoryWriter,
+    integ: &Integrator<DynamicSystem<'_>>,
+    last_record: Option<&(f64, Vec<f64>)>,
+    why: Divergence,
+) -> GlazeError {
+    let report = divergence_report(spec, model, history, integ, last_record, &why);
+    let config = &integ.system().committed;
+    let v = integ.velocity();
+    let velocity: Vec<[f64; 3]> = (0..model.node_count())
+        .map(|n| std::array::from_fn(|d| model.dofs.equation(n, d).map_or(0.0, |eq| v[eq])))
+        .collect();
+    let positions: Vec<[f64; 3]> = config.positions.iter().map(|p| [p.x, p.y, p.z]).collect();
+    let rotations: Vec<[f64; 4]> = config.rotations.iter().map(glaze_elements::so3::to_quaternion).collect();
+    let kept = history
+        .flush()
+        .and_then(|()| writer.write_divergence(&report, integ.time(), &positions, &rotations, &velocity));
+    match kept {
+        Ok(()) => GlazeError::Diverged { report },
+        Err(e) => GlazeError::Diverged { report: format!("{report}\n(the results could not be kept: {e})") },
+    }
+}
+
+fn divergence_report(
+    spec: &SectionSpec,
+    model: &Model,
+    history: &HistoryWriter,
+    integ: &Integrator<DynamicSystem<'_>>,
+    last_record: Option<&(f64, Vec<f64>)>,
+    why: &Divergence,
 ) -> String {
-    format!(
-        "the dynamic run of {} stopped after t = {last_good:.4} s: {e}. Try a smaller [dynamics] time_step, more elements per span, \
-         or check the aerodynamic tables ({} nodes, {} elements)",
-        spec.file.display(),
-        model.node_count(),
-        model.elements.len()
-    )
+    let t = integ.time();
+    let sys = integ.system();
+    let v = integ.velocity();
+    let (cause, eq) = match why {
+        Divergence::Solver(e) => (format!("{e}"), worst_equation(e)),
+        Divergence::NonFinite(field) => (format!("the {field} is not finite (NaN or infinity)"), None),
+        Divergence::RanAway(x) => (
+            format!(
+                "a node moved {x:.3e} m, farther than the size of the whole section: the motion ran away"
+            ),
+            None,
+        ),
+    };
+    // Without an equation from the solver: the fastest DOF.
+    let eq = eq
+        .filter(|&q| q < v.len())
+        .or_else(|| v.iter().enumerate().max_by(|a, b| a.1.abs().total_cmp(&b.1.abs())).map(|(i, _)| i));
+    let dof = eq.and_then(|q| {
+        model.dofs.all().iter().position(|e| *e == Some(q)).map(|i| (q, i / DOF_PER_NODE, i % DOF_PER_NODE))
+    });
+    let mut lines = vec![format!(
+        "the dynamic run of {} diverged: the last converged state is at t = {t:.4} s",
+        spec.file.display()
+    )];
+    lines.push(format!("  cause: {cause}"));
+    if let Some((q, node, d)) = dof {
+        let disp = sys.committed.positions[node] - model.nodes[node];
+        lines.push(format!(
+            "  worst DOF: equation {q}, {} of {} (velocity {:.3e} {}, moved {:.3} m from the stringing state)",
+            DOF_NAMES[d],
+            describe_node(model, node),
+            v[q],
+            if d < 3 { "m/s" } else { "rad/s" },
+            disp.norm()
+        ));
+    }
+    // The element whose axial force changed most since the last record.
+    if let Some((_, last)) = last_record.filter(|(_, l)| l.len() == model.elements.len()) {
+        let ctx = ElementContext { temperature_change: model.temperature_change };
+        let config = &sys.committed;
+        let change = model.elements.iter().zip(last).enumerate().map(|(i, (el, n0))| {
+            let nodes: Vec<NodeState> = el
+                .nodes()
+                .iter()
+                .map(|&n| NodeState {
+                    x0: model.nodes[n],
+                    x: config.positions[n],
+                    rotation: config.rotations[n],
+                })
+                .collect();
+            let n1 = el.output(&ctx, &nodes).axial_force;
+            (i, n1 - n0, n1)
+        });
+        if let Some((i, dn, n1)) = change.max_by(|a, b| a.1.abs().total_cmp(&b.1.abs())) {
+            let el = &model.elements[i];
+            lines.push(format!(
+                "  largest force change since the last record: element {i} ({}, {}), axial force {:.4e} N, changed by {dn:.3e} N",
+                el.kind(),
+                describe_node(model, el.nodes()[0]),
+                n1
+            ));
+        }
+    }
+    let written = history.len();
+    lines.push(format!(
+        "  kept: {written} records up to t = {:.4} s, and the last converged state in /divergence, in the results file marked incomplete",
+        last_record.map_or(0.0, |r| r.0)
+    ));
+    let dt = spec.dynamics.as_ref().map_or(f64::NAN, |d| d.time_step);
+    lines.push(format!(
+        "  suggestion: try a smaller [dynamics] time_step (now {dt} s; halve it), more elements per span ([mesh]), and check \
+         the aerodynamic coefficient tables for jumps or steep slopes; a wind far above the galloping onset can drive the \
+         motion beyond what the section can follow"
+    ));
+    lines.join("\n")
 }
 
 /// After each accepted step: trapezoidal increments of the Rayleigh

@@ -86,6 +86,20 @@ pub struct RawDynamics {
     pub damping: Option<RawDamping>,
     /// Initial perturbation in a mode.
     pub perturbation: Option<RawPerturbation>,
+    /// When `glaze run` writes its checkpoint.
+    pub checkpoint: Option<RawCheckpoint>,
+}
+
+/// `[dynamics.checkpoint]`: checkpoints of `glaze run` for `--resume`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawCheckpoint {
+    /// Write checkpoints (default true).
+    pub enabled: Option<bool>,
+    /// Simulated time between checkpoints, in s (default: none, by wall time).
+    pub every_simulated: Option<f64>,
+    /// Wall time between checkpoints, in minutes (default 5).
+    pub every_wall_minutes: Option<f64>,
 }
 
 /// `[dynamics.damping]`: Rayleigh damping, fitted or given.

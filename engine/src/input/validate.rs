@@ -805,6 +805,7 @@ fn validate_dynamics(d: &super::schema::RawDynamics, loc: &Locator<'_>) -> Resul
             Some(Perturbation { mode: p.mode, size, start })
         }
     };
+    let checkpoint = validate_checkpoint(d.checkpoint.as_ref(), loc)?;
     Ok(DynamicsSpec {
         duration,
         time_step: dt,
@@ -814,5 +815,24 @@ fn validate_dynamics(d: &super::schema::RawDynamics, loc: &Locator<'_>) -> Resul
         wind_ramp,
         damping,
         perturbation,
+        checkpoint,
     })
+}
+
+/// `[dynamics.checkpoint]`: each interval given must be a finite time > 0.
+fn validate_checkpoint(
+    c: Option<&super::schema::RawCheckpoint>,
+    loc: &Locator<'_>,
+) -> Result<crate::spec::CheckpointSpec, InputError> {
+    let mut spec = crate::spec::CheckpointSpec::default();
+    let Some(c) = c else { return Ok(spec) };
+    spec.enabled = c.enabled.unwrap_or(true);
+    if let Some(t) = c.every_simulated {
+        spec.every_simulated = Some(positive(loc, "dynamics.checkpoint.every_simulated", t, "s")?);
+    }
+    if let Some(m) = c.every_wall_minutes {
+        spec.every_wall_minutes =
+            Some(positive(loc, "dynamics.checkpoint.every_wall_minutes", m, "minutes")?);
+    }
+    Ok(spec)
 }

@@ -22,6 +22,9 @@ pub struct ResultsWriter {
     file: Option<hdf5::File>,
     partial: PathBuf,
     target: PathBuf,
+    /// Reopened by [`ResultsWriter::reopen`]: `/model`, `/static`, `/modes`
+    /// are already in the file, and a dropped writer keeps its file.
+    resumed: bool,
 }
 
 fn err(path: &Path, e: impl std::fmt::Display) -> GlazeError {
@@ -46,13 +49,70 @@ impl ResultsWriter {
         super::preflight::check(target, super::preflight::BASE_BYTES + input_toml.len() as u64)?;
         let partial = partial_path(target);
         let file = hdf5::File::create(&partial).map_err(|e| err(target, e))?;
-        let w = Self { file: Some(file), partial, target: target.to_path_buf() };
+        let w = Self { file: Some(file), partial, target: target.to_path_buf(), resumed: false };
         w.attr_str("format", FORMAT_NAME)?;
         w.attr_u32("format_version", FORMAT_VERSION)?;
         w.attr_str("program_version", env!("CARGO_PKG_VERSION"))?;
         w.attr_str("input_toml", input_toml)?;
         w.attr_u32("complete", 0)?;
         Ok(w)
+    }
+
+    /// Reopens the partial file of `target` left by an interrupted run of
+    /// `input_toml`, for `glaze run --resume`: it must be a glaze results
+    /// file of this format version and program version, not complete, of
+    /// the same input text. A dropped reopened writer keeps the file.
+    ///
+    /// # Errors
+    /// [`GlazeError::Resume`] naming what is missing or different.
+    pub fn reopen(target: &Path, input_toml: &str) -> Result<Self, GlazeError> {
+        let partial = partial_path(target);
+        let refuse = |message: String| GlazeError::Resume { path: partial.clone(), message };
+        if !partial.is_file() {
+            let why = if target.is_file() {
+                format!("{} is complete already; there is nothing to resume", target.display())
+            } else {
+                "the file is missing: no interrupted run of this output to resume; run without --resume"
+                    .into()
+            };
+            return Err(refuse(why));
+        }
+        let file = hdf5::File::open_rw(&partial).map_err(|e| refuse(format!("cannot be opened: {e}")))?;
+        let read_str = |name: &str| -> Option<String> {
+            file.attr(name).ok()?.read_scalar::<VarLenUnicode>().ok().map(|v| v.as_str().to_string())
+        };
+        let read_u32 = |name: &str| file.attr(name).ok().and_then(|a| a.read_scalar::<u32>().ok());
+        if read_str("format").as_deref() != Some(FORMAT_NAME)
+            || read_u32("format_version") != Some(FORMAT_VERSION)
+        {
+            return Err(refuse(format!("not a glaze results file of format version {FORMAT_VERSION}")));
+        }
+        if read_str("program_version").as_deref() != Some(env!("CARGO_PKG_VERSION")) {
+            return Err(refuse(format!(
+                "written by glaze {}, not this glaze {}; run again without --resume",
+                read_str("program_version").unwrap_or_default(),
+                env!("CARGO_PKG_VERSION")
+            )));
+        }
+        if read_u32("complete") != Some(0) {
+            return Err(refuse("the file is marked complete; there is nothing to resume".into()));
+        }
+        if read_str("input_toml").as_deref() != Some(text(input_toml).as_str()) {
+            return Err(refuse("the file was written for another input; run again without --resume".into()));
+        }
+        Ok(Self { file: Some(file), partial, target: target.to_path_buf(), resumed: true })
+    }
+
+    /// Whether the writer was reopened to resume a run.
+    pub fn is_resumed(&self) -> bool {
+        self.resumed
+    }
+
+    /// Writes everything buffered by the library to the partial file and
+    /// asks the operating system to put it on disk (fsync).
+    pub fn sync(&self) -> Result<(), GlazeError> {
+        self.file().flush().map_err(|e| err(&self.target, e))?;
+        std::fs::File::open(&self.partial).and_then(|f| f.sync_all()).map_err(|e| err(&self.target, e))
     }
 
     /// The open file (for the history writer).
@@ -79,15 +139,19 @@ impl ResultsWriter {
     }
 
     fn attr_f64(&self, name: &str, value: f64) -> Result<(), GlazeError> {
-        self.file()
-            .new_attr::<f64>()
-            .create(name)
-            .and_then(|a| a.write_scalar(&value))
-            .map_err(|e| err(&self.target, e))
+        let f = self.file();
+        let attr = match f.attr(name) {
+            Ok(a) => a,
+            Err(_) => f.new_attr::<f64>().create(name).map_err(|e| err(&self.target, e))?,
+        };
+        attr.write_scalar(&value).map_err(|e| err(&self.target, e))
     }
 
-    /// Writes `/model`.
+    /// Writes `/model` (a reopened writer keeps the file's own).
     pub fn write_model(&self, model: &Model) -> Result<(), GlazeError> {
+        if self.resumed {
+            return Ok(());
+        }
         let t = &self.target;
         let g = self.file().create_group("model").map_err(|e| err(t, e))?;
         let n = model.node_count();
@@ -172,6 +236,9 @@ impl ResultsWriter {
         result: &StaticResult,
         load_case: &str,
     ) -> Result<(), GlazeError> {
+        if self.resumed {
+            return Ok(());
+        }
         let t = &self.target;
         let g = self.file().create_group("static").map_err(|e| err(t, e))?;
         g.new_attr::<VarLenUnicode>()
@@ -205,8 +272,12 @@ impl ResultsWriter {
         Ok(())
     }
 
-    /// Writes `/modes` (layout in `docs/results-format.md`).
+    /// Writes `/modes` (layout in `docs/results-format.md`; a reopened
+    /// writer keeps the file's own).
     pub fn write_modes(&self, model: &Model, modes: &ModalResult) -> Result<(), GlazeError> {
+        if self.resumed {
+            return Ok(());
+        }
         let t = &self.target;
         let g = self.file().create_group("modes").map_err(|e| err(t, e))?;
         let group_str = |name: &str, value: &str| {
@@ -273,6 +344,33 @@ impl ResultsWriter {
 }
 
 impl ResultsWriter {
+    /// Writes `/divergence` into a run that diverged: the last converged
+    /// state (`time` s, `position` [n,3] m, `rotation` [n,4] quaternion,
+    /// `velocity` [n,3] m/s) and the report as the group's `report`.
+    pub fn write_divergence(
+        &self,
+        report: &str,
+        time: f64,
+        position: &[[f64; 3]],
+        rotation: &[[f64; 4]],
+        velocity: &[[f64; 3]],
+    ) -> Result<(), GlazeError> {
+        let t = &self.target;
+        let g = self.file().create_group("divergence").map_err(|e| err(t, e))?;
+        g.new_attr::<VarLenUnicode>()
+            .create("report")
+            .and_then(|a| a.write_scalar(&text(report)))
+            .map_err(|e| err(t, e))?;
+        write_f64(&g, "time", Array1::from(vec![time]).view().into_dyn(), "s", t)?;
+        let n = position.len();
+        let p = Array2::from_shape_fn((n, 3), |(i, d)| position[i][d]);
+        write_f64(&g, "position", p.view().into_dyn(), "m", t)?;
+        let r = Array2::from_shape_fn((rotation.len(), 4), |(i, d)| rotation[i][d]);
+        write_f64(&g, "rotation", r.view().into_dyn(), "1", t)?;
+        let v = Array2::from_shape_fn((velocity.len(), 3), |(i, d)| velocity[i][d]);
+        write_f64(&g, "velocity", v.view().into_dyn(), "m/s", t)
+    }
+
     /// Closes the file *incomplete* (`complete = 0`) and keeps it under its
     /// partial name, e.g. after an interruption; returns that path.
     pub fn keep_incomplete(mut self, wall_time_s: f64) -> Result<PathBuf, GlazeError> {
@@ -294,7 +392,9 @@ impl Drop for ResultsWriter {
     fn drop(&mut self) {
         if let Some(file) = self.file.take() {
             drop(file);
-            let _ = std::fs::remove_file(&self.partial);
+            if !self.resumed {
+                let _ = std::fs::remove_file(&self.partial);
+            }
         }
     }
 }

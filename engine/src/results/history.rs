@@ -9,7 +9,10 @@ use ndarray::{s, Array1, Array2, Array3};
 use std::path::PathBuf;
 
 /// Records buffered before each write (and the chunk length along time).
-const BLOCK: usize = 64;
+/// Blocks are written whole, at multiples of `BLOCK` records, so a chunk
+/// already on disk is never written again in a run (a checkpoint keeps the
+/// records of the unfinished block itself).
+pub const BLOCK: usize = 64;
 
 /// Test hook: with this variable set to N, the first block write past N
 /// records fails as a full disk would (for the tests of a write error in
@@ -21,7 +24,7 @@ pub const ENERGY_COLUMNS: [&str; 5] =
     ["kinetic", "strain", "gravity_potential", "dissipated", "aerodynamic_work"];
 
 /// One recorded state.
-#[derive(Clone, Debug, Default)]
+#[derive(Clone, Debug, Default, PartialEq)]
 pub struct Record {
     /// Time, in s.
     pub time: f64,
@@ -116,6 +119,77 @@ impl HistoryWriter {
             path,
             fail_after: std::env::var(FAIL_AFTER_RECORDS_VAR).ok().and_then(|v| v.trim().parse().ok()),
         })
+    }
+
+    /// Reopens `/dynamic` of a reopened results file to continue after
+    /// `written` records (a multiple of [`BLOCK`]), truncating its datasets
+    /// there, with `buffered` records of the unfinished block to come.
+    ///
+    /// # Errors
+    /// [`GlazeError::Resume`] when the datasets are missing, of another
+    /// shape, or shorter than `written`.
+    pub fn reopen(
+        results: &ResultsWriter,
+        (nodes, elements, supports): (usize, usize, usize),
+        written: usize,
+        buffered: Vec<Record>,
+    ) -> Result<Self, GlazeError> {
+        let path = results.target().to_path_buf();
+        let refuse = |message: String| GlazeError::Resume { path: super::partial_path(&path), message };
+        let g = results.file().group("dynamic").map_err(|e| refuse(format!("no /dynamic group ({e})")))?;
+        let open = |name: &str, inner: &[usize]| -> Result<hdf5::Dataset, GlazeError> {
+            let ds = g.dataset(name).map_err(|e| refuse(format!("no /dynamic/{name} ({e})")))?;
+            let shape = ds.shape();
+            if shape.len() != inner.len() + 1 || shape[1..] != *inner || shape[0] < written {
+                return Err(refuse(format!(
+                    "/dynamic/{name} has shape {shape:?}; the checkpoint needs {written} records of {inner:?}"
+                )));
+            }
+            Ok(ds)
+        };
+        let mut w = Self {
+            time: open("time", &[])?,
+            displacement: open("displacement", &[nodes, 3])?,
+            rotation: open("rotation", &[nodes, 4])?,
+            velocity: open("velocity", &[nodes, 3])?,
+            axial: open("element_axial_force", &[elements])?,
+            support: open("support_force", &[supports, 3])?,
+            energy: open("energy", &[ENERGY_COLUMNS.len()])?,
+            buffer: Vec::with_capacity(BLOCK),
+            written,
+            nodes,
+            elements,
+            supports,
+            path: path.clone(),
+            fail_after: std::env::var(FAIL_AFTER_RECORDS_VAR).ok().and_then(|v| v.trim().parse().ok()),
+        };
+        let resize = |ds: &hdf5::Dataset| {
+            let mut shape = ds.shape();
+            shape[0] = written;
+            ds.resize(shape).map_err(|e| err(&path, e))
+        };
+        for ds in [&w.time, &w.displacement, &w.rotation, &w.velocity, &w.axial, &w.support, &w.energy] {
+            resize(ds)?;
+        }
+        w.buffer = buffered;
+        Ok(w)
+    }
+
+    /// Time of written record `i`, s (read back from the file).
+    pub fn written_time(&self, i: usize) -> Result<f64, GlazeError> {
+        let v: Vec<f64> =
+            self.time.read_slice_1d::<f64, _>(s![i..i + 1]).map_err(|e| err(&self.path, e))?.to_vec();
+        v.first().copied().ok_or_else(|| err(&self.path, format!("record {i} is not in the file")))
+    }
+
+    /// Records on the file (whole blocks, until the final flush).
+    pub fn written(&self) -> usize {
+        self.written
+    }
+
+    /// Records not yet written (those of the unfinished block).
+    pub fn buffered(&self) -> &[Record] {
+        &self.buffer
     }
 
     /// Buffers one record; writes the block when full.

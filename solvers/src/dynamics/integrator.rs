@@ -151,6 +151,35 @@ pub struct IntegrationStats {
     pub factor_stats: FactorStats,
 }
 
+/// Everything the next step of an [`Integrator`] reads, for a checkpoint:
+/// [`Integrator::resume`] from it takes exactly the steps the original
+/// would have taken, bit for bit (the held factor of S is rebuilt from its
+/// values, so modified Newton makes the same reuse decisions).
+#[derive(Debug, Clone, PartialEq)]
+pub struct IntegratorState {
+    /// Committed time t_n, s.
+    pub t: f64,
+    /// Current (nominal) step size, s.
+    pub dt: f64,
+    /// Easy steps in a row (regrowth counter).
+    pub easy: usize,
+    /// v_n (m/s, rad/s), a_n (m/s², rad/s²), g_n (N, N·m), M a_n and C v_n (N, N·m).
+    pub v: Vec<f64>,
+    /// a_n.
+    pub a: Vec<f64>,
+    /// g_n.
+    pub g: Vec<f64>,
+    /// M a_n.
+    pub ma: Vec<f64>,
+    /// C v_n.
+    pub cv: Vec<f64>,
+    /// Step size (s) and values of S on the pattern of the factor held for
+    /// modified Newton, if one is held.
+    pub factor: Option<(f64, Vec<f64>)>,
+    /// Work counters at the snapshot.
+    pub stats: IntegrationStats,
+}
+
 /// Bookkeeping of one attempt at a step.
 #[derive(Debug, Clone, Copy)]
 struct Attempt {
@@ -204,6 +233,8 @@ pub struct Integrator<S: SecondOrderSystem> {
     rejected: usize,
     iterations: usize,
     evaluations: usize,
+    /// Solver counters of the run before a [`resume`](Self::resume).
+    base_factor_stats: FactorStats,
 }
 
 impl<S: SecondOrderSystem> Integrator<S> {
@@ -304,7 +335,6 @@ impl<S: SecondOrderSystem> Integrator<S> {
                 return Err(SolverError::NonFinite { lambda: f64::NAN, dof: pattern.row_idx()[k] });
             }
         }
-        let solver = SparseDirect::new(pattern);
         let mass = CompressedMatrix::from_pattern(pattern, system.mass());
         let damping = CompressedMatrix::from_pattern(pattern, system.damping());
         let mut cv = vec![0.0; n];
@@ -318,8 +348,27 @@ impl<S: SecondOrderSystem> Integrator<S> {
         if let Some(dof) = first_non_finite(&g) {
             return Err(SolverError::NonFinite { lambda: f64::NAN, dof });
         }
+        Ok(Self::allocate(system, settings, params, v0, g, cv, mass, damping, t0))
+    }
+
+    /// The integrator's buffers around a committed state (no evaluation).
+    #[allow(clippy::too_many_arguments)]
+    fn allocate(
+        system: S,
+        settings: IntegratorSettings,
+        params: AlphaParameters,
+        v0: Vec<f64>,
+        g: Vec<f64>,
+        cv: Vec<f64>,
+        mass: CompressedMatrix,
+        damping: CompressedMatrix,
+        t0: f64,
+    ) -> Self {
+        let n = system.dim();
+        let nnz = system.pattern().nnz();
+        let solver = SparseDirect::new(system.pattern());
         let dt = settings.dt;
-        Ok(Self {
+        Self {
             system,
             settings,
             params,
@@ -352,7 +401,98 @@ impl<S: SecondOrderSystem> Integrator<S> {
             rejected: 0,
             iterations: 0,
             evaluations: 1,
-        })
+            base_factor_stats: FactorStats::default(),
+        }
+    }
+
+    /// Continue from a snapshot taken by [`state`](Self::state): `system`
+    /// must hold the snapshot's committed configuration and the same M and
+    /// C (the caller restores them); nothing is evaluated, and a held factor
+    /// of S is refactorised from its stored values, so the steps that
+    /// follow are those the original run took, bit for bit.
+    ///
+    /// # Errors
+    /// [`SolverError::InvalidSettings`] for bad settings or a snapshot of
+    /// another size; [`SolverError::NonFinite`] for non-finite values; an
+    /// error of the factorisation.
+    pub fn resume(
+        system: S,
+        state: IntegratorState,
+        settings: IntegratorSettings,
+    ) -> Result<Self, SolverError> {
+        let params = settings.validate()?;
+        let n = system.dim();
+        let nnz = system.pattern().nnz();
+        if system.mass().len() != nnz || system.damping().len() != nnz {
+            return Err(SolverError::InvalidSettings {
+                name: "mass or damping length",
+                value: system.mass().len() as f64,
+                expected: "one value per pattern entry (nnz)",
+            });
+        }
+        let lengths = [state.v.len(), state.a.len(), state.g.len(), state.ma.len(), state.cv.len()];
+        let factor_len = state.factor.as_ref().map_or(nnz, |(_, s)| s.len());
+        if lengths.iter().any(|&l| l != n)
+            || factor_len != nnz
+            || !state.t.is_finite()
+            || state.dt.is_nan()
+            || state.dt <= 0.0
+        {
+            return Err(SolverError::InvalidSettings {
+                name: "checkpoint state",
+                value: n as f64,
+                expected: "vectors of the system's dimension, S on its pattern, a finite time and step",
+            });
+        }
+        for v in [&state.v, &state.a, &state.g, &state.ma, &state.cv] {
+            if let Some(dof) = first_non_finite(v) {
+                return Err(SolverError::NonFinite { lambda: f64::NAN, dof });
+            }
+        }
+        let mass = CompressedMatrix::from_pattern(system.pattern(), system.mass());
+        let damping = CompressedMatrix::from_pattern(system.pattern(), system.damping());
+        let IntegratorState { t, dt, easy, v, a, g, ma, cv, factor, stats } = state;
+        let mut it = Self::allocate(system, settings, params, v, g, cv, mass, damping, t);
+        it.dt = dt;
+        it.easy = easy;
+        it.a = a;
+        it.ma = ma;
+        it.steps = stats.steps;
+        it.rejected = stats.rejected_steps;
+        it.iterations = stats.newton_iterations;
+        it.evaluations = stats.evaluations;
+        if let Some((h, values)) = factor {
+            it.solver.factor(&values)?;
+            it.s_vals = values;
+            it.factor_h = Some(h);
+        }
+        // The refactorisation above is the original's factor again: not counted.
+        let mut base = stats.factor_stats;
+        let now = it.solver.stats();
+        base.symbolic = base.symbolic.saturating_sub(now.symbolic);
+        base.symbolic_cholesky = base.symbolic_cholesky.saturating_sub(now.symbolic_cholesky);
+        base.symbolic_lu = base.symbolic_lu.saturating_sub(now.symbolic_lu);
+        base.numeric_cholesky = base.numeric_cholesky.saturating_sub(now.numeric_cholesky);
+        base.numeric_lu = base.numeric_lu.saturating_sub(now.numeric_lu);
+        base.cholesky_failures = base.cholesky_failures.saturating_sub(now.cholesky_failures);
+        it.base_factor_stats = base;
+        Ok(it)
+    }
+
+    /// A snapshot of everything the next step reads (see [`IntegratorState`]).
+    pub fn state(&self) -> IntegratorState {
+        IntegratorState {
+            t: self.t,
+            dt: self.dt,
+            easy: self.easy,
+            v: self.v.clone(),
+            a: self.a.clone(),
+            g: self.g.clone(),
+            ma: self.ma.clone(),
+            cv: self.cv.clone(),
+            factor: self.factor_h.map(|h| (h, self.s_vals.clone())),
+            stats: self.stats(),
+        }
     }
 
     /// One step of the current step size (cut back by halves on failure down
@@ -389,15 +529,34 @@ impl<S: SecondOrderSystem> Integrator<S> {
                 expected: "a finite time not before the current time (s)",
             });
         }
-        while self.t < t_end {
-            if t_end - self.t <= ABSORB_FRACTION * self.dt {
-                self.t = t_end;
-                break;
-            }
-            let report = self.step_towards(Some(t_end))?;
+        while let Some(report) = self.step_until(t_end)? {
             on_step(self, &report);
         }
         Ok(())
+    }
+
+    /// One step of [`advance_to`](Self::advance_to)`(t_end)`: `None` once
+    /// `t_end` is reached (a gap below 1e-9 of a step is absorbed then), so
+    /// a caller can stop or save between any two steps of an interval.
+    ///
+    /// # Errors
+    /// As [`advance_to`](Self::advance_to).
+    pub fn step_until(&mut self, t_end: f64) -> Result<Option<StepReport>, SolverError> {
+        if !(t_end.is_finite() && t_end >= self.t) {
+            return Err(SolverError::InvalidSettings {
+                name: "t_end",
+                value: t_end,
+                expected: "a finite time not before the current time (s)",
+            });
+        }
+        if self.t >= t_end {
+            return Ok(None);
+        }
+        if t_end - self.t <= ABSORB_FRACTION * self.dt {
+            self.t = t_end;
+            return Ok(None);
+        }
+        self.step_towards(Some(t_end)).map(Some)
     }
 
     /// Committed time t_n, s.
@@ -456,7 +615,16 @@ impl<S: SecondOrderSystem> Integrator<S> {
 
     /// Work counters since construction.
     pub fn stats(&self) -> IntegrationStats {
-        let fs = self.solver.stats();
+        let (b, s) = (self.base_factor_stats, self.solver.stats());
+        let fs = FactorStats {
+            symbolic: b.symbolic + s.symbolic,
+            symbolic_cholesky: b.symbolic_cholesky + s.symbolic_cholesky,
+            symbolic_lu: b.symbolic_lu + s.symbolic_lu,
+            numeric_cholesky: b.numeric_cholesky + s.numeric_cholesky,
+            numeric_lu: b.numeric_lu + s.numeric_lu,
+            solves: b.solves + s.solves,
+            cholesky_failures: b.cholesky_failures + s.cholesky_failures,
+        };
         IntegrationStats {
             steps: self.steps,
             rejected_steps: self.rejected,

@@ -55,7 +55,9 @@ mod scheme;
 #[cfg(test)]
 mod tests;
 
-pub use integrator::{IntegrationStats, Integrator, IntegratorSettings, Predictor, StepReport};
+pub use integrator::{
+    IntegrationStats, Integrator, IntegratorSettings, IntegratorState, Predictor, StepReport,
+};
 pub use scheme::{AlphaParameters, Scheme};
 
 use crate::{EvalError, SparsityPattern};
