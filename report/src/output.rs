@@ -113,6 +113,25 @@ fn fatigue_csv(report: &Report) -> String {
     s
 }
 
+fn modes_csv(report: &Report) -> String {
+    let mut s =
+        String::from("mode,frequency_hz,share,rms_coordinate,peak_coordinate,peak_displacement_m,label\n");
+    for m in &report.modes {
+        let _ = writeln!(
+            s,
+            "{},{},{},{},{},{},\"{}\"",
+            m.mode,
+            m.frequency_hz,
+            m.share,
+            m.rms_coordinate,
+            m.peak_coordinate,
+            m.peak_displacement_m,
+            m.label.replace('"', "'")
+        );
+    }
+    s
+}
+
 /// Post-processes `results` (see the crate docs) and writes the report files.
 ///
 /// # Errors
@@ -139,6 +158,7 @@ pub fn post_process(results: &Path, options: &PostOptions) -> Result<PostOutcome
         ("envelope.csv", envelope_csv(&report)),
         ("loads.csv", loads_csv(&report)),
         ("fatigue.csv", fatigue_csv(&report)),
+        ("modes.csv", modes_csv(&report)),
     ] {
         let path = dir.join(name);
         write_atomic(&path, &text)?;

@@ -52,6 +52,31 @@ pub struct Report {
     pub strings: Vec<StringTension>,
     /// Fatigue of the attachments per S–N curve.
     pub fatigue: Vec<FatigueResult>,
+    /// The steady motion projected on the linear modes about the start
+    /// state (empty for a file without `/modes`).
+    pub modes: Vec<ModeParticipation>,
+    /// Share of the steady motion's mean ΔᵀMΔ in the modes listed (the
+    /// rest is in modes not computed, or nonlinear); `None` without modes.
+    pub modes_captured_share: Option<f64>,
+}
+
+/// One linear mode's part in the steady motion (see [`crate::series::ModalSeries`]).
+#[derive(Debug, Clone, Serialize)]
+pub struct ModeParticipation {
+    /// Mode number, 1-based.
+    pub mode: usize,
+    /// Natural frequency, Hz.
+    pub frequency_hz: f64,
+    /// Description.
+    pub label: String,
+    /// RMS of the modal coordinate q_k = φ_kᵀMΔ, kg^1/2 m.
+    pub rms_coordinate: f64,
+    /// Largest |q_k|, kg^1/2 m.
+    pub peak_coordinate: f64,
+    /// Largest displacement the mode makes: peak |q_k| times the shape's largest translation, m.
+    pub peak_displacement_m: f64,
+    /// Share of the mean ΔᵀMΔ of the steady motion, mean(q_k²) / mean(ΔᵀMΔ).
+    pub share: f64,
 }
 
 /// Clearances over the steady part.
@@ -477,6 +502,35 @@ pub fn build_report(
         }
     }
 
+    // Projection on the linear modes.
+    let (modes, modes_captured_share) = match &series.modal {
+        None => (Vec::new(), None),
+        Some(ms) => {
+            let steady = ms.norm2.len().saturating_sub(from).max(1) as f64;
+            let total: f64 = ms.norm2[from.min(ms.norm2.len())..].iter().sum::<f64>() / steady;
+            let list: Vec<ModeParticipation> =
+                ms.q.iter()
+                    .enumerate()
+                    .map(|(k, q)| {
+                        let q = &q[from.min(q.len())..];
+                        let mean_square = q.iter().map(|x| x * x).sum::<f64>() / steady;
+                        let peak = q.iter().fold(0.0_f64, |m, x| m.max(x.abs()));
+                        ModeParticipation {
+                            mode: k + 1,
+                            frequency_hz: ms.frequency_hz[k],
+                            label: ms.labels[k].clone(),
+                            rms_coordinate: mean_square.sqrt(),
+                            peak_coordinate: peak,
+                            peak_displacement_m: peak * ms.shape_peak[k],
+                            share: if total > 0.0 { mean_square / total } else { 0.0 },
+                        }
+                    })
+                    .collect();
+            let captured = list.iter().map(|m| m.share).sum();
+            (list, Some(captured))
+        }
+    };
+
     Ok(Report {
         caution: CAUTION,
         results_file,
@@ -496,5 +550,7 @@ pub fn build_report(
         conductors,
         strings,
         fatigue,
+        modes,
+        modes_captured_share,
     })
 }

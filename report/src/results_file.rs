@@ -64,6 +64,22 @@ pub struct ModelInfo {
     pub strings: Vec<StringInfo>,
 }
 
+/// The linear modes about the start state (`/modes`) with what projecting
+/// the motion on them needs.
+#[derive(Debug, Clone)]
+pub struct ModesInfo {
+    /// Natural frequencies, Hz.
+    pub frequency_hz: Vec<f64>,
+    /// One-line descriptions.
+    pub labels: Vec<String>,
+    /// Mass-normalised shapes, `[mode][node][6]` flattened (kg^-1/2, kg^-1/2 m^-1).
+    pub shapes: Vec<f64>,
+    /// Lumped mass of every node, `[node][6][6]` flattened, row-major (kg, kg·m, kg·m²).
+    pub node_mass: Vec<f64>,
+    /// Static rotation of every node, unit quaternion (w, x, y, z).
+    pub static_rotation: Vec<[f64; 4]>,
+}
+
 impl ModelInfo {
     /// Number of nodes.
     pub fn node_count(&self) -> usize {
@@ -316,6 +332,38 @@ impl ResultsFile {
     /// `/dynamic/displacement` for records `range`: record-major, `[r][node][3]` flattened, m.
     pub fn displacement(&self, range: std::ops::Range<usize>) -> Result<Vec<f64>, ReportError> {
         self.block("dynamic/displacement", range, self.model.node_count() * 3)
+    }
+
+    /// `/dynamic/rotation` for records `range`: `[r][node][4]` unit quaternions (w, x, y, z).
+    pub fn rotation(&self, range: std::ops::Range<usize>) -> Result<Vec<f64>, ReportError> {
+        self.block("dynamic/rotation", range, self.model.node_count() * 4)
+    }
+
+    /// The modes of `/modes` with their node masses, if the file has both
+    /// (run files from this version on; files of `glaze modes`).
+    ///
+    /// # Errors
+    /// [`ReportError::Format`] for a `/modes` group whose shapes do not match the model.
+    pub fn modes(&self) -> Result<Option<ModesInfo>, ReportError> {
+        if self.file.dataset("modes/node_mass").is_err() {
+            return Ok(None);
+        }
+        let (path, file) = (&self.path, &self.file);
+        let n = self.model.node_count();
+        let frequency_hz = f64s(path, file, "modes/frequency_hz")?;
+        let labels = strings(path, file, "modes/label")?;
+        let shapes = f64s(path, file, "modes/shape")?;
+        let node_mass = f64s(path, file, "modes/node_mass")?;
+        let rot = f64s(path, file, "static/rotation")?;
+        let k = frequency_hz.len();
+        if labels.len() != k || shapes.len() != k * n * 6 || node_mass.len() != n * 36 || rot.len() != n * 4 {
+            return Err(ReportError::Format {
+                path: path.clone(),
+                message: "/modes does not match the model (shape, node_mass or label sizes)".into(),
+            });
+        }
+        let static_rotation = rot.chunks_exact(4).map(|q| [q[0], q[1], q[2], q[3]]).collect();
+        Ok(Some(ModesInfo { frequency_hz, labels, shapes, node_mass, static_rotation }))
     }
 
     /// `/dynamic/element_axial_force` for records `range`, `[r][element]`, N.

@@ -4,7 +4,7 @@
 //! pair of wires and of every wire to the ground, the largest conductor
 //! tension of every span, the string tensions and the support forces.
 
-use crate::results_file::{ModelInfo, ResultsFile};
+use crate::results_file::{ModelInfo, ModesInfo, ResultsFile};
 use crate::ReportError;
 use glaze_post::clearance::{min_vertical_clearance, ClearanceSearch, GroundProfile, PolylineSet};
 use rayon::prelude::*;
@@ -59,6 +59,109 @@ pub struct Series {
     pub support_force: Vec<Vec<[f64; 3]>>,
     /// Segments in the clearance search and the segment pairs it tested, summed over records.
     pub clearance_work: (usize, u64),
+    /// The motion projected on the linear modes, if the file has them.
+    pub modal: Option<ModalSeries>,
+}
+
+/// Modal coordinates of the motion: with Δ(t) the displacement and
+/// rotation from the static state (rotation vector of R(t) R_staticᵀ, in
+/// global axes) and φ_k the mass-normalised shapes, q_k(t) = φ_kᵀ M Δ(t),
+/// the coordinate of mode k in the M-orthogonal expansion Δ = Σ q_k φ_k
+/// (e.g. Clough & Penzien, *Dynamics of Structures*, on normal
+/// coordinates). `norm2` is ΔᵀMΔ: Σ_k q_k² ≤ ΔᵀMΔ, with the rest in modes
+/// that were not computed (and in the nonlinear part of the motion).
+#[derive(Debug, Clone)]
+pub struct ModalSeries {
+    /// Natural frequencies, Hz.
+    pub frequency_hz: Vec<f64>,
+    /// Labels of the modes.
+    pub labels: Vec<String>,
+    /// Per mode, per record: q_k, kg^1/2 m.
+    pub q: Vec<Vec<f64>>,
+    /// Per record: ΔᵀMΔ, kg m².
+    pub norm2: Vec<f64>,
+    /// Per mode: the largest translation of the shape over the nodes, kg^-1/2
+    /// (q_k times it is the largest displacement the mode makes, m).
+    pub shape_peak: Vec<f64>,
+}
+
+/// Precomputed M φ_k per node, and the static rotations, for the projection.
+struct Projection {
+    modes: usize,
+    /// `[mode][node][6]` of M_n φ_k,n.
+    m_phi: Vec<f64>,
+    /// `[node][36]` lumped masses.
+    node_mass: Vec<f64>,
+    /// Conjugate of each node's static rotation quaternion.
+    static_conj: Vec<[f64; 4]>,
+}
+
+impl Projection {
+    fn new(m: &ModesInfo, n: usize) -> Self {
+        let k = m.frequency_hz.len();
+        let mut m_phi = vec![0.0; k * n * 6];
+        for mode in 0..k {
+            for node in 0..n {
+                let phi = &m.shapes[(mode * n + node) * 6..(mode * n + node + 1) * 6];
+                let mass = &m.node_mass[node * 36..(node + 1) * 36];
+                for r in 0..6 {
+                    m_phi[(mode * n + node) * 6 + r] = (0..6).map(|c| mass[r * 6 + c] * phi[c]).sum();
+                }
+            }
+        }
+        let static_conj = m.static_rotation.iter().map(|q| [q[0], -q[1], -q[2], -q[3]]).collect();
+        Self { modes: k, m_phi, node_mass: m.node_mass.clone(), static_conj }
+    }
+
+    /// (q_k for every mode, ΔᵀMΔ) of one record; `delta` is scratch of 6n.
+    fn project(&self, d: &[f64], rot: &[f64], delta: &mut [f64]) -> (Vec<f64>, f64) {
+        let n = self.static_conj.len();
+        for node in 0..n {
+            let out = &mut delta[node * 6..node * 6 + 6];
+            out[..3].copy_from_slice(&d[3 * node..3 * node + 3]);
+            let q = &rot[4 * node..4 * node + 4];
+            let theta = rotation_vector(quat_mul([q[0], q[1], q[2], q[3]], self.static_conj[node]));
+            out[3..].copy_from_slice(&theta);
+        }
+        let q = (0..self.modes)
+            .map(|k| {
+                self.m_phi[k * n * 6..(k + 1) * n * 6].iter().zip(delta.iter()).map(|(a, b)| a * b).sum()
+            })
+            .collect();
+        let mut norm2 = 0.0;
+        for node in 0..n {
+            let x = &delta[node * 6..node * 6 + 6];
+            let mass = &self.node_mass[node * 36..(node + 1) * 36];
+            for r in 0..6 {
+                if x[r] != 0.0 {
+                    norm2 += x[r] * (0..6).map(|c| mass[r * 6 + c] * x[c]).sum::<f64>();
+                }
+            }
+        }
+        (q, norm2)
+    }
+}
+
+/// Hamilton product a ⊗ b of quaternions (w, x, y, z).
+fn quat_mul(a: [f64; 4], b: [f64; 4]) -> [f64; 4] {
+    [
+        a[0] * b[0] - a[1] * b[1] - a[2] * b[2] - a[3] * b[3],
+        a[0] * b[1] + a[1] * b[0] + a[2] * b[3] - a[3] * b[2],
+        a[0] * b[2] - a[1] * b[3] + a[2] * b[0] + a[3] * b[1],
+        a[0] * b[3] + a[1] * b[2] - a[2] * b[1] + a[3] * b[0],
+    ]
+}
+
+/// Rotation vector (axis × angle, rad) of a unit quaternion, angle in [0, π].
+fn rotation_vector(q: [f64; 4]) -> [f64; 3] {
+    let s = if q[0] < 0.0 { -1.0 } else { 1.0 };
+    let (w, v) = (s * q[0], [s * q[1], s * q[2], s * q[3]]);
+    let sin_half = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+    if sin_half < 1e-12 {
+        return [2.0 * v[0], 2.0 * v[1], 2.0 * v[2]];
+    }
+    let scale = 2.0 * sin_half.atan2(w) / sin_half;
+    [scale * v[0], scale * v[1], scale * v[2]]
 }
 
 fn group_stations(model: &ModelInfo) -> Vec<SpanStations> {
@@ -167,18 +270,45 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
     // then its records are worked out in parallel, each worker with its own
     // geometry scratch, and appended in record order (the same result on
     // any number of threads).
-    let scratch = Scratch { pos, sets, searches };
+    let modes = file.modes()?;
+    let projection = modes.as_ref().map(|m| Projection::new(m, n));
+    let mut modal = modes.map(|m| ModalSeries {
+        shape_peak: m
+            .shapes
+            .chunks_exact(6 * n)
+            .map(|shape| {
+                shape
+                    .chunks_exact(6)
+                    .map(|p| (p[0] * p[0] + p[1] * p[1] + p[2] * p[2]).sqrt())
+                    .fold(0.0, f64::max)
+            })
+            .collect(),
+        q: vec![Vec::with_capacity(t_count); m.frequency_hz.len()],
+        norm2: Vec::with_capacity(t_count),
+        frequency_hz: m.frequency_hz,
+        labels: m.labels,
+    });
+    let delta = vec![0.0; if projection.is_some() { 6 * n } else { 0 }];
+    let scratch = Scratch { pos, sets, searches, delta };
     let mut start = 0;
     while start < t_count {
         let end = (start + BLOCK).min(t_count);
         let disp = file.displacement(start..end)?;
         let axial = file.axial_force(start..end)?;
         let forces = file.support_force(start..end)?;
+        let rot = if projection.is_some() { file.rotation(start..end)? } else { Vec::new() };
         let outs: Vec<RecordOut> = (0..end - start)
             .into_par_iter()
             .map_init(
                 || scratch.clone(),
                 |sc, r| {
+                    let modal = projection.as_ref().map(|p| {
+                        p.project(
+                            &disp[r * n * 3..(r + 1) * n * 3],
+                            &rot[r * n * 4..(r + 1) * n * 4],
+                            &mut sc.delta,
+                        )
+                    });
                     one_record(
                         model,
                         &spans,
@@ -190,6 +320,10 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
                         &axial[r * e_count..(r + 1) * e_count],
                         &forces[r * s_count * 3..(r + 1) * s_count * 3],
                     )
+                    .map(|mut o| {
+                        o.modal = modal;
+                        o
+                    })
                 },
             )
             .collect::<Result<_, _>>()?;
@@ -214,6 +348,12 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
             for (k, f) in o.support_force.into_iter().enumerate() {
                 support_force[k].push(f);
             }
+            if let (Some(ms), Some((q, norm2))) = (modal.as_mut(), o.modal) {
+                for (series, value) in ms.q.iter_mut().zip(q) {
+                    series.push(value);
+                }
+                ms.norm2.push(norm2);
+            }
         }
         start = end;
     }
@@ -226,6 +366,7 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
         string_tension,
         support_force,
         clearance_work: work,
+        modal,
     })
 }
 
@@ -235,6 +376,8 @@ struct Scratch {
     pos: Vec<[f64; 3]>,
     sets: Vec<PolylineSet>,
     searches: Vec<ClearanceSearch>,
+    /// Displacement and rotation vector of every node, for the projection.
+    delta: Vec<f64>,
 }
 
 /// What one record adds to the series.
@@ -246,6 +389,7 @@ struct RecordOut {
     span_tension: Vec<f64>,
     string_tension: Vec<f64>,
     support_force: Vec<[f64; 3]>,
+    modal: Option<(Vec<f64>, f64)>,
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -324,5 +468,14 @@ fn one_record(
         .map(|s| s.elements.iter().map(|&e| f[e]).fold(f64::NEG_INFINITY, f64::max))
         .collect();
     let support_force = (0..sf.len() / 3).map(|k| [sf[3 * k], sf[3 * k + 1], sf[3 * k + 2]]).collect();
-    Ok(RecordOut { stations, pairs, segment_pairs, ground, span_tension, string_tension, support_force })
+    Ok(RecordOut {
+        stations,
+        pairs,
+        segment_pairs,
+        ground,
+        span_tension,
+        string_tension,
+        support_force,
+        modal: None,
+    })
 }

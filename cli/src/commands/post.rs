@@ -149,6 +149,24 @@ pub fn post(
             );
         }
     }
+    if let Some(captured) = r.modes_captured_share {
+        out!();
+        out!(
+            "motion in the linear modes about the start state (steady part; {:.1} % of the mean ΔᵀMΔ in these modes)",
+            100.0 * captured
+        );
+        out!("{:>4} {:>9} {:>8} {:>10}  {}", "mode", "f Hz", "share %", "peak m", "label");
+        for m in r.modes.iter().filter(|m| m.share >= 0.01) {
+            out!(
+                "{:>4} {:>9.4} {:>8.1} {:>10.4}  {}",
+                m.mode,
+                m.frequency_hz,
+                100.0 * m.share,
+                m.peak_displacement_m,
+                m.label
+            );
+        }
+    }
     out!();
     for w in &outcome.written {
         out!("wrote {}", w.display());

@@ -3,7 +3,7 @@
 //! integration with histories streamed to the results file.
 
 use super::dynamic_system::{node_velocity, DynamicSystem};
-use super::modal::{Linearisation, ModalSettings};
+use super::modal::{self, Linearisation, ModalSettings};
 use super::rayleigh::Rayleigh;
 use super::static_stage::run_static;
 use super::static_system::Configuration;
@@ -141,7 +141,12 @@ pub fn run_dynamic_with(
                 )
                 .into());
         }
-        Some((lin.solve(&ModalSettings::new(needed))?, lin))
+        let set = lin.solve(&ModalSettings::new(needed))?;
+        // The modes about the start state go into the file, for the
+        // projection of the motion on them (`glaze post`).
+        let frames = modal::node_frames(&static_model, &state.config);
+        writer.write_modes(&static_model, &modal::describe(&static_model, &lin, &set, &frames))?;
+        Some((set, lin))
     } else {
         None
     };

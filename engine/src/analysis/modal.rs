@@ -395,6 +395,9 @@ pub struct ModalResult {
     pub stiffness_asymmetry: f64,
     /// Number of free DOF.
     pub dofs: usize,
+    /// Lumped mass of every node (translations, then rotations about the
+    /// global axes; kg, kg·m, kg·m²), the M of the normalisation φᵀMφ = 1.
+    pub node_mass: Vec<Matrix6<f64>>,
 }
 
 /// The lowest modes of `model` about its static state `static_result`.
@@ -474,6 +477,7 @@ pub fn describe(model: &Model, lin: &Linearisation, modes: &ModeSet, frames: &[N
         shift: modes.shift,
         stiffness_asymmetry: lin.asymmetry,
         dofs: lin.dim(),
+        node_mass: lin.node_mass.clone(),
     }
 }
 

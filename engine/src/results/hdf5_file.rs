@@ -325,6 +325,8 @@ impl ResultsWriter {
         write_f64(&g, "span_energy_share", spans.view().into_dyn(), "1", t)?;
         let labels: Array1<VarLenUnicode> = modes.labels.iter().map(|l| text(l)).collect();
         dataset(&g, "label", labels.view(), "1", t)?;
+        let mass = Array3::from_shape_fn((n, 6, 6), |(i, r, c)| modes.node_mass[i][(r, c)]);
+        write_f64(&g, "node_mass", mass.view().into_dyn(), "kg (translations), kg·m, kg·m² (rotations)", t)?;
         write_f64(&g, "residual", column(&modes.residuals).view().into_dyn(), "1", t)?;
         Ok(())
     }
