@@ -189,6 +189,7 @@ fn run(span: Span, scheme: &str, period: f64, periods: f64) -> Run {
                     energy_balance_error: f64::INFINITY,
                     modal_damping: Vec::new(),
                     prior_wall_time_s: 0.0,
+                    timings: Default::default(),
                 };
                 (summary, writer.keep_incomplete(0.0).unwrap(), Some(report))
             }

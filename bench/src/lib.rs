@@ -42,6 +42,6 @@ pub fn build_info() -> BuildInfo {
         profile: if cfg!(debug_assertions) { "debug".into() } else { "release".into() },
         target: format!("{}-{}", std::env::consts::ARCH, std::env::consts::OS),
         cpus: std::thread::available_parallelism().map_or(1, |n| n.get()),
-        threads: 1,
+        threads: rayon::current_num_threads(),
     }
 }

@@ -34,7 +34,7 @@ pub struct BuildInfo {
     pub target: String,
     /// Logical CPUs of the machine.
     pub cpus: usize,
-    /// Threads the run used (one case at a time, one thread each).
+    /// Threads of each case's element loops (one case at a time; `RAYON_NUM_THREADS` sets it).
     pub threads: usize,
 }
 
@@ -74,6 +74,31 @@ pub struct CaseRecord {
     /// Fingerprint of the results at the last record: Σ|u| (m), max |u| (m),
     /// Σ axial force (N).
     pub fingerprint: Vec<f64>,
+    /// Where the stepping's wall time went (absent in older records).
+    #[serde(default)]
+    pub phases: PhaseTimes,
+}
+
+/// Wall time of the stepping by part, s, and the factor-and-solve floor.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+pub struct PhaseTimes {
+    /// Element forces and tangents with their assembly.
+    pub elements_s: f64,
+    /// Aerodynamic loads and Jacobians with their assembly.
+    pub aerodynamics_s: f64,
+    /// Numeric factorisations of the step matrix.
+    pub factorisation_s: f64,
+    /// Solves with the factor.
+    pub solve_s: f64,
+    /// Records, HDF5 output and checkpoints.
+    pub output_s: f64,
+    /// The rest: the integrator's vector work (M·a, C·v, residuals, predictors).
+    pub other_s: f64,
+    /// Factor-and-solve floor: one numeric factorisation plus one solve, at
+    /// their mean measured times in this run, s per step.
+    pub floor_per_step_s: f64,
+    /// Whole step over the floor.
+    pub step_over_floor: f64,
 }
 
 /// Largest relative difference between two fingerprints (∞ when their lengths differ).

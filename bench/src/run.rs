@@ -3,9 +3,9 @@
 //! from the results file.
 
 use crate::cases::ScaleCase;
-use crate::record::{peak_memory_bytes, CaseRecord};
+use crate::record::{peak_memory_bytes, CaseRecord, PhaseTimes};
 use crate::BenchError;
-use glaze_engine::analysis::dynamic_stage::run_dynamic;
+use glaze_engine::analysis::dynamic_stage::{run_dynamic, RunTimings};
 use glaze_engine::results::ResultsWriter;
 use glaze_engine::spec::SchemeSpec;
 use glaze_engine::{input, model, ElementRegistry};
@@ -78,7 +78,26 @@ pub fn run_case(case: ScaleCase, duration: f64, work: &Path, keep: bool) -> Resu
         peak_memory_bytes: peak_memory_bytes(),
         energy_balance_error: summary.energy_balance_error,
         fingerprint,
+        phases: phases(&summary.timings, summary.steps),
     })
+}
+
+/// The run's timings as [`PhaseTimes`].
+fn phases(t: &RunTimings, steps: usize) -> PhaseTimes {
+    let per = |total: f64, count: usize| if count > 0 { total / count as f64 } else { 0.0 };
+    let floor = per(t.factorisation_s, t.factorisations) + per(t.solve_s, t.solves);
+    let parts = t.elements_s + t.aerodynamics_s + t.factorisation_s + t.solve_s + t.output_s;
+    let step = per(t.stepping_s, steps);
+    PhaseTimes {
+        elements_s: t.elements_s,
+        aerodynamics_s: t.aerodynamics_s,
+        factorisation_s: t.factorisation_s,
+        solve_s: t.solve_s,
+        output_s: t.output_s,
+        other_s: (t.stepping_s - parts).max(0.0),
+        floor_per_step_s: floor,
+        step_over_floor: if floor > 0.0 { step / floor } else { 0.0 },
+    }
 }
 
 /// Σ|u|, max |u| and Σ axial force at the last record of `results`.

@@ -63,7 +63,7 @@ mod test_util;
 
 pub use dynamics::{
     AlphaParameters, IntegrationStats, Integrator, IntegratorSettings, IntegratorState, Predictor, Scheme,
-    SecondOrderSystem, StepReport,
+    SecondOrderSystem, StepReport, StepTimings,
 };
 pub use eigen::{dense_shift_invert, lanczos_shift_invert, EigenPairs, EigenSettings};
 pub use error::{EvalError, SolverError};

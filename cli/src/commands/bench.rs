@@ -135,6 +135,19 @@ pub fn bench(o: &BenchOptions, quiet: bool) -> Result<bool, BenchError> {
                 r.real_time_factor,
                 r.peak_memory_bytes as f64 / (1 << 20) as f64
             );
+            let p = &r.phases;
+            out!(
+                "{:<10} elements {:.2} s, aerodynamics {:.2} s, factorisation {:.2} s, solves {:.2} s, output {:.2} s, other {:.2} s; step {:.2}× the factor-and-solve floor of {:.2} ms",
+                "",
+                p.elements_s,
+                p.aerodynamics_s,
+                p.factorisation_s,
+                p.solve_s,
+                p.output_s,
+                p.other_s,
+                p.step_over_floor,
+                1e3 * p.floor_per_step_s
+            );
         }
         records.push(r);
     }

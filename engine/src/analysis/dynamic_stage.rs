@@ -60,6 +60,29 @@ pub struct DynamicSummary {
     pub modal_damping: Vec<(f64, f64)>,
     /// Wall time of the run before this process resumed it, s (0 for a fresh run).
     pub prior_wall_time_s: f64,
+    /// Where this process's stepping spent its wall time.
+    pub timings: RunTimings,
+}
+
+/// Wall time of the time stepping by part, s (of this process when resumed).
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct RunTimings {
+    /// Element forces and tangents, with their assembly.
+    pub elements_s: f64,
+    /// Aerodynamic loads and Jacobians, with their assembly.
+    pub aerodynamics_s: f64,
+    /// Numeric factorisations of the step matrix.
+    pub factorisation_s: f64,
+    /// Solves with the factor.
+    pub solve_s: f64,
+    /// Records, HDF5 output and checkpoints.
+    pub output_s: f64,
+    /// The whole stepping loop (the rest is the integrator's own vector work).
+    pub stepping_s: f64,
+    /// Numeric factorisations and solves counted, for per-call times.
+    pub factorisations: usize,
+    /// Solves with the factor.
+    pub solves: usize,
 }
 
 /// Stopping, checkpoints and resume of a run.
@@ -370,6 +393,9 @@ fn integrate(
     let extent = model_extent(model);
     let mut interrupted = false;
     let mut next = first_output;
+    let stepping = Instant::now();
+    let mut output_s = 0.0;
+    let counted = integ.stats();
     while next <= outputs {
         let k = next;
         if control.stop.load(Ordering::Relaxed) {
@@ -384,6 +410,7 @@ fn integrate(
                 Err(e) => break Err(Divergence::Solver(e)),
             }
         };
+        let clock = Instant::now();
         let rec = record(model, start, &integ, &mut energy);
         let outcome = stepped.and_then(|()| check_record(&rec, extent));
         if let Err(why) = outcome {
@@ -391,6 +418,7 @@ fn integrate(
         }
         last_record = Some((rec.time, rec.axial_force.clone()));
         history.push(rec)?;
+        output_s += clock.elapsed().as_secs_f64();
         next = k + 1;
         let stats = integ.stats();
         progress(Progress {
@@ -405,9 +433,11 @@ fn integrate(
                     .every_wall_minutes
                     .is_some_and(|m| last_checkpoint.1.elapsed().as_secs_f64() >= 60.0 * m);
         if control.checkpoints && policy.enabled && due && next <= outputs {
+            let clock = Instant::now();
             let wall = prior_wall + started.elapsed().as_secs_f64();
             write_checkpoint(spec, writer, &history, &integ, &energy, fingerprint, next, wall)?;
             last_checkpoint = (integ.time(), Instant::now());
+            output_s += clock.elapsed().as_secs_f64();
         }
     }
     if interrupted && control.checkpoints && policy.enabled {
@@ -416,6 +446,17 @@ fn integrate(
     }
     history.flush()?;
     let stats = integ.stats();
+    let (steps_t, loops) = (integ.timings(), integ.system().loop_seconds());
+    let timings = RunTimings {
+        elements_s: loops[0],
+        aerodynamics_s: loops[1],
+        factorisation_s: steps_t.factorisation_s,
+        solve_s: steps_t.solve_s,
+        output_s,
+        stepping_s: stepping.elapsed().as_secs_f64(),
+        factorisations: stats.factorisations - counted.factorisations,
+        solves: stats.solves - counted.solves,
+    };
     Ok(DynamicSummary {
         time: integ.time(),
         interrupted,
@@ -428,6 +469,7 @@ fn integrate(
         energy_balance_error: energy.worst,
         modal_damping: Vec::new(),
         prior_wall_time_s: prior_wall,
+        timings,
     })
 }
 

@@ -94,6 +94,8 @@ pub struct DynamicSystem<'m> {
     aero_elements: Vec<usize>,
     /// Blocks of one window of aerodynamic elements.
     aero_blocks: Vec<AeroBlock>,
+    /// Wall time in the element loop and in the aerodynamic loop, s.
+    loop_seconds: [f64; 2],
 }
 
 impl<'m> DynamicSystem<'m> {
@@ -151,6 +153,7 @@ impl<'m> DynamicSystem<'m> {
                     ..AeroBlock::default()
                 })
                 .collect(),
+            loop_seconds: [0.0; 2],
         };
         let mut mass = vec![0.0; s.pattern.nnz()];
         for e in 0..model.elements.len() {
@@ -248,6 +251,7 @@ impl<'m> DynamicSystem<'m> {
         let model = self.model;
         let config = &self.trial;
         let tangent = k.is_some();
+        let clock = std::time::Instant::now();
         for first in (0..model.elements.len()).step_by(WINDOW) {
             let count = WINDOW.min(model.elements.len() - first);
             let blocks = &mut self.blocks[..count];
@@ -270,6 +274,7 @@ impl<'m> DynamicSystem<'m> {
                 self.assembler.add_vector(first + i, &b.f[..m], &mut self.internal_force);
             }
         }
+        self.loop_seconds[0] += clock.elapsed().as_secs_f64();
         g.copy_from_slice(&self.internal_force);
         for (i, eq) in self.model.dofs.all().iter().enumerate() {
             if let Some(eq) = eq {
@@ -279,6 +284,7 @@ impl<'m> DynamicSystem<'m> {
         let scale = self.wind_factor(t).sqrt();
         if let (true, Some(wind), true) = (with_wind, self.model.wind, scale > 0.0) {
             let damping = d.is_some();
+            let clock = std::time::Instant::now();
             for window in self.aero_elements.chunks(WINDOW) {
                 let blocks = &mut self.aero_blocks[..window.len()];
                 blocks.par_iter_mut().with_min_len(ELEMENTS_PER_TASK).zip(window).for_each(|(b, &e)| {
@@ -332,6 +338,7 @@ impl<'m> DynamicSystem<'m> {
                     self.assembler.add_vector(e, &b.f, &mut self.aero_force);
                 }
             }
+            self.loop_seconds[1] += clock.elapsed().as_secs_f64();
             for (gi, fa) in g.iter_mut().zip(&self.aero_force) {
                 *gi -= fa;
             }
@@ -362,6 +369,12 @@ impl<'m> DynamicSystem<'m> {
                 so3::exp(&theta) * base.rotations[n]
             };
         }
+    }
+
+    /// Wall time spent in the element loop (internal forces and tangents)
+    /// and in the aerodynamic loop (loads and their Jacobians), s.
+    pub fn loop_seconds(&self) -> [f64; 2] {
+        self.loop_seconds
     }
 
     /// The model.

@@ -8,6 +8,7 @@ use crate::{
     AlphaParameters, CompressedMatrix, FactorStats, LinearSolver, NewtonSettings, Scheme, SolverError,
     SparseDirect, SparsityPattern,
 };
+use std::time::Instant;
 
 /// A final step up to this fraction longer than the current step is taken
 /// as one step (no sliver step at `t_end`).
@@ -151,6 +152,18 @@ pub struct IntegrationStats {
     pub factor_stats: FactorStats,
 }
 
+/// Wall time an [`Integrator`] spent in each part of its steps since it was
+/// made (or resumed), s: not part of the results, nor of a checkpoint.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct StepTimings {
+    /// In [`SecondOrderSystem::evaluate`] (forces, tangents, loads).
+    pub evaluation_s: f64,
+    /// In numeric factorisations of the step matrix.
+    pub factorisation_s: f64,
+    /// In solves with the factor.
+    pub solve_s: f64,
+}
+
 /// Everything the next step of an [`Integrator`] reads, for a checkpoint:
 /// [`Integrator::resume`] from it takes exactly the steps the original
 /// would have taken, bit for bit (the held factor of S is rebuilt from its
@@ -235,6 +248,7 @@ pub struct Integrator<S: SecondOrderSystem> {
     evaluations: usize,
     /// Solver counters of the run before a [`resume`](Self::resume).
     base_factor_stats: FactorStats,
+    timings: StepTimings,
 }
 
 impl<S: SecondOrderSystem> Integrator<S> {
@@ -402,6 +416,7 @@ impl<S: SecondOrderSystem> Integrator<S> {
             iterations: 0,
             evaluations: 1,
             base_factor_stats: FactorStats::default(),
+            timings: StepTimings::default(),
         }
     }
 
@@ -611,6 +626,11 @@ impl<S: SecondOrderSystem> Integrator<S> {
     /// The unified-form parameters of the scheme.
     pub fn parameters(&self) -> AlphaParameters {
         self.params
+    }
+
+    /// Wall time spent in evaluation, factorisation and solves (see [`StepTimings`]).
+    pub fn timings(&self) -> StepTimings {
+        self.timings
     }
 
     /// Work counters since construction.
@@ -832,14 +852,19 @@ impl<S: SecondOrderSystem> Integrator<S> {
                     self.s_vals[k] = cm * m[k] + cc * (c[k] + self.d_vals[k]) + ck * self.k_vals[k];
                 }
                 self.factor_h = None;
+                let clock = Instant::now();
                 self.solver.factor(&self.s_vals)?;
+                self.timings.factorisation_s += clock.elapsed().as_secs_f64();
                 self.factor_h = Some(h);
                 info.factorisations += 1;
             }
             for i in 0..n {
                 self.delta[i] = -self.r[i];
             }
-            if let Err(e) = self.solver.solve_in_place(&mut self.delta) {
+            let clock = Instant::now();
+            let solved = self.solver.solve_in_place(&mut self.delta);
+            self.timings.solve_s += clock.elapsed().as_secs_f64();
+            if let Err(e) = solved {
                 self.factor_h = None; // a factor that fails its solve checks is not reused
                 return Err(e);
             }
@@ -881,6 +906,7 @@ impl<S: SecondOrderSystem> Integrator<S> {
     fn evaluate(&mut self, t1: f64, tangents: bool) -> Result<(), SolverError> {
         self.evaluations += 1;
         self.g1.fill(0.0);
+        let clock = Instant::now();
         let result = if tangents {
             self.k_vals.fill(0.0);
             self.d_vals.fill(0.0);
@@ -888,6 +914,7 @@ impl<S: SecondOrderSystem> Integrator<S> {
         } else {
             self.system.evaluate(t1, &self.v1, &mut self.g1, None, None)
         };
+        self.timings.evaluation_s += clock.elapsed().as_secs_f64();
         result.map_err(|e| SolverError::EvaluationAtTime { time: t1, message: e.message })?;
         if let Some(dof) = first_non_finite(&self.g1) {
             return Err(SolverError::NonFinite { lambda: f64::NAN, dof });

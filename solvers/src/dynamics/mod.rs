@@ -56,7 +56,7 @@ mod scheme;
 mod tests;
 
 pub use integrator::{
-    IntegrationStats, Integrator, IntegratorSettings, IntegratorState, Predictor, StepReport,
+    IntegrationStats, Integrator, IntegratorSettings, IntegratorState, Predictor, StepReport, StepTimings,
 };
 pub use scheme::{AlphaParameters, Scheme};
 
