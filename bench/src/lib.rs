@@ -10,6 +10,7 @@ pub mod against;
 pub mod cases;
 pub mod record;
 pub mod run;
+pub mod scaling;
 
 pub use cases::{named_set, ScaleCase};
 pub use record::{BenchRecord, BuildInfo, CaseRecord, BENCH_FORMAT};

@@ -62,4 +62,35 @@ fn bench_records_compare_on_speed_and_answer() {
 
     let o = Command::new(BIN).args(["bench", "--cases", "s9p9b9"]).current_dir(d).output().expect("glaze");
     assert_eq!(o.status.code(), Some(2), "{}", text(&o));
+
+    // The phases of the stepping add up to at most its wall time.
+    let p = &case["phases"];
+    let parts: f64 = ["elements_s", "aerodynamics_s", "factorisation_s", "solve_s", "output_s", "other_s"]
+        .iter()
+        .map(|k| p[*k].as_f64().unwrap())
+        .inspect(|&x| assert!(x >= 0.0, "{p}"))
+        .sum();
+    let stepping = case["dynamic_s"].as_f64().unwrap();
+    assert!(parts <= 1.05 * stepping && p["floor_per_step_s"].as_f64().unwrap() > 0.0, "{p} of {stepping} s");
+
+    // Two sizes: the fitted growth and its log–log chart.
+    let o = Command::new(BIN)
+        .args([
+            "bench",
+            "--cases",
+            "s1p1b2,s2p1b2",
+            "--duration",
+            "0.2",
+            "--out",
+            "two.json",
+            "--work",
+            "work",
+        ])
+        .current_dir(d)
+        .output()
+        .expect("glaze bench");
+    assert!(o.status.success(), "{}", text(&o));
+    assert!(String::from_utf8_lossy(&o.stdout).contains("time per step grows as DOF^"), "{}", text(&o));
+    let svg = std::fs::read_to_string(d.join("two.svg")).expect("the chart beside the record");
+    assert!(svg.starts_with("<svg") && svg.contains("fitted slope"), "{}", &svg[..svg.len().min(200)]);
 }

@@ -3,6 +3,7 @@
 //! `--against OLD.json` compares speed and results fingerprints.
 
 use glaze_bench::against::{compare, table};
+use glaze_bench::scaling;
 use glaze_bench::{build_info, named_set, run_case, BenchError, BenchRecord, CaseRecord, BENCH_FORMAT};
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -163,6 +164,19 @@ pub fn bench(o: &BenchOptions, quiet: bool) -> Result<bool, BenchError> {
     write_atomic(&o.out, &json)?;
     if !quiet {
         out!("wrote {}", o.out.display());
+    }
+    // With cases of two sizes or more: the growth of the time per step.
+    if let Some((slope, _)) = scaling::fit(&scaling::points(&record.cases)) {
+        let chart = o.out.with_extension("svg");
+        let svg = scaling::chart_svg(&record.cases).map_err(BenchError::Usage)?;
+        write_atomic(&chart, &svg)?;
+        if !quiet {
+            out!(
+                "time per step grows as DOF^{slope:.2} (least squares over {} cases, log–log); chart {}",
+                record.cases.len(),
+                chart.display()
+            );
+        }
     }
     let Some(old) = old else { return Ok(true) };
     let (rows, unmatched) = compare(&record, &old, o.tolerance);
