@@ -15,7 +15,10 @@
 //!
 //! It is the curvature form of [`ConductorBending::stress_from_curvature`]
 //! applied to the clamped tensioned beam `y = κ₀ (e^(−p x) − 1 + p x)/p²`,
-//! with `Y_b = 2 y(x)`.
+//! with `Y_b = 2 y(x)`. That beam leaves the clamp at the slope Δθ = κ₀/p
+//! (y' → κ₀/p far from it), so a conductor whose slope outside the clamp
+//! differs from the clamp body's by Δθ has `κ₀ = p Δθ`
+//! ([`ConductorBending::stress_from_clamp_rotation`]).
 
 use thiserror::Error;
 
@@ -148,6 +151,37 @@ impl ConductorBending {
     pub fn stress_from_curvature(&self, curvature: f64) -> f64 {
         self.outer_wire_modulus * 0.5 * self.outer_wire_diameter * curvature
     }
+
+    /// Outer-wire bending stress (Pa) at the clamp exit when the conductor
+    /// outside the clamp's boundary layer is turned by `rotation` (rad)
+    /// from the clamp body, at tension `tension` (N): `σ = E_a (d_a/2) p Δθ`,
+    /// `κ₀ = p Δθ`, `p = √(T/EI_min)` (tensioned beam, module docs). Signed as Δθ.
+    pub fn stress_from_clamp_rotation(&self, tension: f64, rotation: f64) -> f64 {
+        self.stress_from_curvature((tension.max(0.0) / self.ei_min).sqrt() * rotation)
+    }
+}
+
+/// Bending rotation (rad) of a conductor at a freely pivoting clamp, in
+/// the vertical plane and in the horizontal plane: `[½(β_f + β_b),
+/// ½(α_f + α_b)]`. `back`, `clamp` and `forward` are the positions (m) of
+/// the conductor nodes before, at and after the clamp; `along` the plan
+/// unit vector of the line. Per side, with `v` the chord from the clamp to
+/// the neighbour, `h = |along · v|`: `β = atan2(v_z, h)` (elevation) and
+/// `α = atan2(across · v, h)`, `across = z × along`. A straight conductor
+/// gives zero; a clamp that pivots freely between equal tensioned-beam
+/// stiffnesses `√(EI T)` on both sides turns to the mean of the two sides,
+/// so each side bends by this half sum relative to it. Its change from the
+/// static state is the Δθ of [`ConductorBending::stress_from_clamp_rotation`].
+pub fn free_clamp_rotation(back: [f64; 3], clamp: [f64; 3], forward: [f64; 3], along: [f64; 2]) -> [f64; 2] {
+    let across = [-along[1], along[0]];
+    let side = |p: [f64; 3]| {
+        let v = [p[0] - clamp[0], p[1] - clamp[1], p[2] - clamp[2]];
+        let h = (along[0] * v[0] + along[1] * v[1]).abs();
+        (v[2].atan2(h), (across[0] * v[0] + across[1] * v[1]).atan2(h))
+    };
+    let (bf, af) = side(forward);
+    let (bb, ab) = side(back);
+    [0.5 * (bf + bb), 0.5 * (af + ab)]
 }
 
 /// `h(u) = (e^(−u) − 1 + u)/u²`, without the cancellation at small u:
@@ -240,6 +274,46 @@ mod tests {
         assert_relative_eq!(k * yb, c.stress_from_curvature(kappa0), max_relative = 1e-13);
         // σ = E d κ/2 by hand: 69e9 · 4.44e-3 / 2 · 1e-3 m⁻¹ = 153.18 kPa.
         assert_relative_eq!(c.stress_from_curvature(1e-3), 153_180.0, max_relative = 1e-12);
+    }
+
+    #[test]
+    fn prescribed_clamp_rotation_gives_the_closed_form_amplitude() {
+        // Both sides of a clamp (static slopes −0.06 and −0.04 rad, 5 m
+        // elements) lifted by θ(t) = θ_a sin(2π t/T) in the vertical plane,
+        // θ_a = 0.01 rad, plus a rigid pitch of the whole conductor by
+        // 0.02 sin(…) (which a free clamp follows: no bending), 40 records
+        // per period, 5 periods. Hand calculation, Drake at T = 28 kN:
+        // p = √(28000/44.3001) = 25.14066 m⁻¹, σ_a = E_a (d_a/2) p θ_a =
+        // 69e9 · 2.22e-3 · 25.14066 · 0.01 = 38.5105 MPa; rainflow range 2σ_a
+        // = 77.0209 MPa (9 full cycles and two half cycles of it).
+        let c = drake();
+        let (t, theta_a, ell) = (28e3, 0.01, 5.0);
+        let along = [1.0, 0.0];
+        let node = |beta: f64, sign: f64| [sign * ell * beta.cos(), 0.0, ell * beta.sin()];
+        let (b0, f0) = (-0.06, -0.04);
+        let rot0 = free_clamp_rotation(node(b0, -1.0), [0.0; 3], node(f0, 1.0), along);
+        let history: Vec<f64> = (0..=200)
+            .map(|i| {
+                let phase = 2.0 * std::f64::consts::PI * i as f64 / 40.0;
+                let (bend, pitch) = (theta_a * phase.sin(), 0.02 * phase.cos());
+                // A pitch raises the forward side and lowers the back one.
+                let r = free_clamp_rotation(
+                    node(b0 + bend - pitch, -1.0),
+                    [0.0; 3],
+                    node(f0 + bend + pitch, 1.0),
+                    along,
+                );
+                c.stress_from_clamp_rotation(t, r[0] - rot0[0])
+            })
+            .collect();
+        let amplitude = history.iter().fold(0.0_f64, |m, s| m.max(s.abs()));
+        assert_relative_eq!(amplitude, 38.5105e6, max_relative = 1e-5);
+        let cycles = crate::rainflow::rainflow(&history).unwrap();
+        let max_range = cycles.iter().map(|c| c.range).fold(0.0, f64::max);
+        assert_relative_eq!(max_range, 77.0209e6, max_relative = 1e-5);
+        // The horizontal plane does not move.
+        let r = free_clamp_rotation(node(b0, -1.0), [0.0; 3], node(f0, 1.0), along);
+        assert!(r[1].abs() < 1e-15);
     }
 
     #[test]

@@ -10,6 +10,7 @@
 
 #![deny(missing_docs)]
 
+pub mod clamp_bending;
 pub mod output;
 pub mod plots;
 pub mod report;

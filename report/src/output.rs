@@ -132,6 +132,30 @@ fn modes_csv(report: &Report) -> String {
     s
 }
 
+fn clamp_fatigue_csv(report: &Report) -> String {
+    let mut s = String::from(
+        "curve,tower,phase,subconductor,plane,static_tension_n,max_range_mpa,max_rotation_rad,cycles,damage_per_hour,hours_to_failure\n",
+    );
+    for f in &report.clamp_fatigue {
+        let _ = writeln!(
+            s,
+            "{},{},{},{},{},{},{},{},{},{},{}",
+            f.curve,
+            f.tower,
+            f.phase,
+            f.subconductor,
+            f.plane,
+            f.static_tension_n,
+            f.max_range_mpa,
+            f.max_rotation_rad,
+            f.cycles,
+            f.damage_per_hour,
+            f.hours_to_failure
+        );
+    }
+    s
+}
+
 /// Post-processes `results` (see the crate docs) and writes the report files.
 ///
 /// # Errors
@@ -158,6 +182,7 @@ pub fn post_process(results: &Path, options: &PostOptions) -> Result<PostOutcome
         ("envelope.csv", envelope_csv(&report)),
         ("loads.csv", loads_csv(&report)),
         ("fatigue.csv", fatigue_csv(&report)),
+        ("clamp_fatigue.csv", clamp_fatigue_csv(&report)),
         ("modes.csv", modes_csv(&report)),
     ] {
         let path = dir.join(name);

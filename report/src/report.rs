@@ -7,6 +7,7 @@ use crate::results_file::ModelInfo;
 use crate::series::{Approach, Series};
 use crate::ReportError;
 use glaze_engine::input::post::{FatigueQuantity, PostSpec};
+use glaze_post::bending_stress::{ConductorBending, WireGroup};
 use glaze_post::fatigue::{hours_to_failure, miner_damage, EndBehaviour, SnCurve};
 use glaze_post::orbit::{fit_orbit, RotationSense};
 use glaze_post::rainflow::rainflow;
@@ -52,6 +53,8 @@ pub struct Report {
     pub strings: Vec<StringTension>,
     /// Fatigue of the attachments per S–N curve.
     pub fatigue: Vec<FatigueResult>,
+    /// Bending-stress fatigue at the suspension clamps per S–N curve.
+    pub clamp_fatigue: Vec<ClampFatigueResult>,
     /// The steady motion projected on the linear modes about the start
     /// state (empty for a file without `/modes`).
     pub modes: Vec<ModeParticipation>,
@@ -234,6 +237,52 @@ pub struct FatigueResult {
     pub damage_per_hour: f64,
     /// Hours of this galloping to damage 1.
     pub hours_to_failure: f64,
+}
+
+/// Bending-stress fatigue of one conductor at one suspension clamp, in one
+/// plane, on one S–N curve (see [`crate::clamp_bending`]).
+#[derive(Debug, Clone, Serialize)]
+pub struct ClampFatigueResult {
+    /// Curve name.
+    pub curve: String,
+    /// Tower name.
+    pub tower: String,
+    /// Phase.
+    pub phase: String,
+    /// Subconductor, 1-based.
+    pub subconductor: usize,
+    /// Bending plane: `vertical` or `horizontal`.
+    pub plane: &'static str,
+    /// Static conductor tension at the clamp used in p = √(T/EI_min), N.
+    pub static_tension_n: f64,
+    /// Largest rainflow range of the outer-wire stress σ = E_a (d_a/2) p Δθ, MPa (peak to peak).
+    pub max_range_mpa: f64,
+    /// Largest clamp rotation change |Δθ| from the static state, rad.
+    pub max_rotation_rad: f64,
+    /// Rainflow cycles counted (half cycles as 0.5).
+    pub cycles: f64,
+    /// Damage per hour of this galloping (the curve read as zero-to-peak amplitudes, range/2).
+    pub damage_per_hour: f64,
+    /// Hours of this galloping to damage 1.
+    pub hours_to_failure: f64,
+}
+
+/// The Poffenberger–Swart data of phase `phase`'s conductor, if its type gives `wires`.
+fn conductor_bending(post: &PostSpec, phase: usize) -> Result<Option<ConductorBending>, ReportError> {
+    let Some(w) = post.phase_conductors.get(phase).and_then(|c| post.wires.get(c)) else { return Ok(None) };
+    let group = |g: &glaze_engine::input::post::WireGroupSpec| WireGroup {
+        count: g.count,
+        diameter: g.diameter,
+        modulus: g.modulus,
+    };
+    let b = match w.ei_min {
+        Some(ei) => ConductorBending::new(w.outer.modulus, w.outer.diameter, ei),
+        None => {
+            let wires: Vec<WireGroup> = std::iter::once(&w.outer).chain(&w.others).map(group).collect();
+            ConductorBending::from_wires(&wires, 0)
+        }
+    };
+    b.map(Some).map_err(|e| ReportError::Analysis(format!("conductor wires of phase {phase}: {e}")))
 }
 
 fn norm(v: [f64; 3]) -> f64 {
@@ -477,11 +526,53 @@ pub fn build_report(
 
     // Fatigue of the attachments.
     let mut fatigue = Vec::new();
+    let mut clamp_fatigue = Vec::new();
     for c in &post.fatigue {
         let end = if c.limit_below_last { EndBehaviour::Limit } else { EndBehaviour::Extrapolate };
-        let curve = SnCurve::new(&c.points, end)
+        // Stress curves are typed in MPa.
+        let scale = match c.applies_to {
+            FatigueQuantity::AttachmentTension => 1.0,
+            FatigueQuantity::ClampBendingStress => 1e6,
+        };
+        let points: Vec<(f64, f64)> = c.points.iter().map(|&(n, s)| (n, s * scale)).collect();
+        let curve = SnCurve::new(&points, end)
             .map_err(|e| ReportError::Analysis(format!("post.fatigue curve `{}`: {e}", c.name)))?;
         match c.applies_to {
+            FatigueQuantity::ClampBendingStress => {
+                let cs = &series.clamps;
+                let mut stress = Vec::with_capacity(t.len().saturating_sub(from));
+                for (clamp, rot) in cs.clamps.iter().zip(&cs.rotation) {
+                    let Some(bending) = conductor_bending(post, clamp.phase)? else { continue };
+                    for (plane, name) in [(0, "vertical"), (1, "horizontal")] {
+                        stress.clear();
+                        stress.extend(
+                            rot[from..]
+                                .iter()
+                                .map(|r| bending.stress_from_clamp_rotation(clamp.static_tension, r[plane])),
+                        );
+                        let cycles =
+                            rainflow(&stress).map_err(|e| ReportError::Analysis(format!("rainflow: {e}")))?;
+                        let damage = miner_damage(&cycles, &curve, |c| c.range / 2.0);
+                        let hours = steady_duration / 3600.0;
+                        clamp_fatigue.push(ClampFatigueResult {
+                            curve: c.name.clone(),
+                            tower: model
+                                .towers
+                                .get(clamp.tower)
+                                .map_or_else(|| clamp.tower.to_string(), |t| t.0.clone()),
+                            phase: model.phase_name(Some(clamp.phase)),
+                            subconductor: clamp.subconductor + 1,
+                            plane: name,
+                            static_tension_n: clamp.static_tension,
+                            max_range_mpa: cycles.iter().map(|c| c.range).fold(0.0, f64::max) / 1e6,
+                            max_rotation_rad: rot[from..].iter().map(|r| r[plane].abs()).fold(0.0, f64::max),
+                            cycles: cycles.iter().map(|c| c.count).sum(),
+                            damage_per_hour: if hours > 0.0 { damage / hours } else { 0.0 },
+                            hours_to_failure: hours_to_failure(damage, steady_duration),
+                        });
+                    }
+                }
+            }
             FatigueQuantity::AttachmentTension => {
                 for (k, f) in series.support_force.iter().enumerate() {
                     let magnitude: Vec<f64> = f[from..].iter().map(|v| norm(*v)).collect();
@@ -550,6 +641,7 @@ pub fn build_report(
         conductors,
         strings,
         fatigue,
+        clamp_fatigue,
         modes,
         modes_captured_share,
     })

@@ -59,6 +59,8 @@ pub struct Series {
     pub support_force: Vec<Vec<[f64; 3]>>,
     /// Segments in the clearance search and the segment pairs it tested, summed over records.
     pub clearance_work: (usize, u64),
+    /// Bending rotation at every suspension clamp.
+    pub clamps: crate::clamp_bending::ClampSeries,
     /// The motion projected on the linear modes, if the file has them.
     pub modal: Option<ModalSeries>,
 }
@@ -265,6 +267,7 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
     let e_count = model.element_kind.len();
     let pos = model.static_position.clone();
     let mut work = (sets.iter().map(PolylineSet::segment_count).sum::<usize>(), 0u64);
+    let mut clamps = crate::clamp_bending::ClampSeries::new(model, t_count);
 
     // Records are independent: each block is read whole (HDF5 is serial),
     // then its records are worked out in parallel, each worker with its own
@@ -294,6 +297,7 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
     while start < t_count {
         let end = (start + BLOCK).min(t_count);
         let disp = file.displacement(start..end)?;
+        clamps.push_block(model, &disp, end - start);
         let axial = file.axial_force(start..end)?;
         let forces = file.support_force(start..end)?;
         let rot = if projection.is_some() { file.rotation(start..end)? } else { Vec::new() };
@@ -366,6 +370,7 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
         string_tension,
         support_force,
         clearance_work: work,
+        clamps,
         modal,
     })
 }

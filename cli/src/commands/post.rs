@@ -149,6 +149,31 @@ pub fn post(
             );
         }
     }
+    if !r.clamp_fatigue.is_empty() {
+        out!();
+        out!("bending stress at the suspension clamps (Poffenberger–Swart, free clamp, static tension; rainflow, Miner)");
+        let mut curves: Vec<&str> = r.clamp_fatigue.iter().map(|f| f.curve.as_str()).collect();
+        curves.dedup();
+        for curve in curves {
+            let worst = r.clamp_fatigue.iter().filter(|f| f.curve == curve).max_by(|a, b| {
+                a.damage_per_hour
+                    .total_cmp(&b.damage_per_hour)
+                    .then(a.max_range_mpa.total_cmp(&b.max_range_mpa))
+            });
+            if let Some(f) = worst {
+                out!(
+                    "{curve}: worst clamp {} phase {} subconductor {} ({} plane): stress range {:.2} MPa, damage/h {:.3e}, hours to 1 {:.3e}",
+                    f.tower,
+                    f.phase,
+                    f.subconductor,
+                    f.plane,
+                    f.max_range_mpa,
+                    f.damage_per_hour,
+                    f.hours_to_failure
+                );
+            }
+        }
+    }
     if let Some(captured) = r.modes_captured_share {
         out!();
         out!(

@@ -167,6 +167,8 @@ pub struct RawConductor {
     /// CSV coefficient table of the bare section (path relative to the
     /// input file); default: round section, C_D = 1, no lift or moment.
     pub aero_table: Option<String>,
+    /// Wire data for the clamp bending stress of `glaze post` (optional).
+    pub wires: Option<super::post::RawWires>,
 }
 
 /// `[[supports]]`: a fixed attachment point.

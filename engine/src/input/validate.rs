@@ -552,7 +552,10 @@ pub(super) fn validate(
         None => None,
         Some(d) => Some(validate_dynamics(d, loc)?),
     };
-    let post = super::post::validate_post(raw.post.as_ref(), loc)?;
+    let wires: Vec<(&str, Option<&super::post::RawWires>)> =
+        raw.conductors.iter().map(|(k, c)| (k.as_str(), c.wires.as_ref())).collect();
+    let phases: Vec<&str> = raw.phases.iter().map(|p| p.conductor.as_str()).collect();
+    let post = super::post::validate_post(raw.post.as_ref(), &wires, &phases, loc)?;
     let gravity = match raw.load_case.gravity {
         Some(g) => positive(loc, "load_case.gravity", g, "m/s²")?,
         None => STANDARD_GRAVITY,
