@@ -293,44 +293,60 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
     });
     let delta = vec![0.0; if projection.is_some() { 6 * n } else { 0 }];
     let scratch = Scratch { pos, sets, searches, delta };
-    let mut start = 0;
-    while start < t_count {
+    // While a block is worked out, the next one is read (HDF5 reads and
+    // decompresses on one thread at a time).
+    let read = |start: usize| -> Result<Option<Block>, ReportError> {
+        if start >= t_count {
+            return Ok(None);
+        }
         let end = (start + BLOCK).min(t_count);
-        let disp = file.displacement(start..end)?;
-        clamps.push_block(model, &disp, end - start);
-        let axial = file.axial_force(start..end)?;
-        let forces = file.support_force(start..end)?;
-        let rot = if projection.is_some() { file.rotation(start..end)? } else { Vec::new() };
-        let outs: Vec<RecordOut> = (0..end - start)
-            .into_par_iter()
-            .map_init(
-                || scratch.clone(),
-                |sc, r| {
-                    let modal = projection.as_ref().map(|p| {
-                        p.project(
+        Ok(Some(Block {
+            end,
+            len: end - start,
+            disp: file.displacement(start..end)?,
+            axial: file.axial_force(start..end)?,
+            forces: file.support_force(start..end)?,
+            rot: if projection.is_some() { file.rotation(start..end)? } else { Vec::new() },
+        }))
+    };
+    let mut current = read(0)?;
+    while let Some(block) = current {
+        let Block { end, len, disp, axial, forces, rot } = block;
+        clamps.push_block(model, &disp, len);
+        let work_out = || {
+            (0..len)
+                .into_par_iter()
+                .map_init(
+                    || scratch.clone(),
+                    |sc, r| {
+                        let modal = projection.as_ref().map(|p| {
+                            p.project(
+                                &disp[r * n * 3..(r + 1) * n * 3],
+                                &rot[r * n * 4..(r + 1) * n * 4],
+                                &mut sc.delta,
+                            )
+                        });
+                        one_record(
+                            model,
+                            &spans,
+                            &phases,
+                            &pair_ids,
+                            profile.as_ref(),
+                            sc,
                             &disp[r * n * 3..(r + 1) * n * 3],
-                            &rot[r * n * 4..(r + 1) * n * 4],
-                            &mut sc.delta,
+                            &axial[r * e_count..(r + 1) * e_count],
+                            &forces[r * s_count * 3..(r + 1) * s_count * 3],
                         )
-                    });
-                    one_record(
-                        model,
-                        &spans,
-                        &phases,
-                        &pair_ids,
-                        profile.as_ref(),
-                        sc,
-                        &disp[r * n * 3..(r + 1) * n * 3],
-                        &axial[r * e_count..(r + 1) * e_count],
-                        &forces[r * s_count * 3..(r + 1) * s_count * 3],
-                    )
-                    .map(|mut o| {
-                        o.modal = modal;
-                        o
-                    })
-                },
-            )
-            .collect::<Result<_, _>>()?;
+                        .map(|mut o| {
+                            o.modal = modal;
+                            o
+                        })
+                    },
+                )
+                .collect::<Result<Vec<RecordOut>, _>>()
+        };
+        let (next, outs) = rayon::join(|| read(end), work_out);
+        let outs = outs?;
         for o in outs {
             for (g, (ys, zs)) in spans.iter_mut().zip(o.stations) {
                 g.y.push(ys);
@@ -359,7 +375,7 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
                 ms.norm2.push(norm2);
             }
         }
-        start = end;
+        current = next?;
     }
     Ok(Series {
         time: file.time.clone(),
@@ -373,6 +389,17 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
         clamps,
         modal,
     })
+}
+
+/// The histories of one block of records.
+struct Block {
+    /// One past the block's last record.
+    end: usize,
+    len: usize,
+    disp: Vec<f64>,
+    axial: Vec<f64>,
+    forces: Vec<f64>,
+    rot: Vec<f64>,
 }
 
 /// Per-worker geometry of [`read_series`].
