@@ -32,6 +32,8 @@ pub struct PostOutcome {
     pub written: Vec<PathBuf>,
     /// Segments of all wires in the clearance search, and segment pairs tested per record on average.
     pub clearance_work: (usize, f64),
+    /// Wall time of the clearance search per record, s (summed over threads).
+    pub clearance_seconds_per_record: f64,
 }
 
 fn write_atomic(path: &Path, text: &str) -> Result<(), ReportError> {
@@ -206,5 +208,6 @@ pub fn post_process(results: &Path, options: &PostOptions) -> Result<PostOutcome
         report,
         written,
         clearance_work: (series.clearance_work.0, series.clearance_work.1 as f64 / records),
+        clearance_seconds_per_record: series.clearance_seconds / records,
     })
 }

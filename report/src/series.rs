@@ -59,6 +59,8 @@ pub struct Series {
     pub support_force: Vec<Vec<[f64; 3]>>,
     /// Segments in the clearance search and the segment pairs it tested, summed over records.
     pub clearance_work: (usize, u64),
+    /// Wall time of the clearance searches (wire pairs and ground), summed over records, s.
+    pub clearance_seconds: f64,
     /// Bending rotation at every suspension clamp.
     pub clamps: crate::clamp_bending::ClampSeries,
     /// The motion projected on the linear modes, if the file has them.
@@ -309,6 +311,7 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
             rot: if projection.is_some() { file.rotation(start..end)? } else { Vec::new() },
         }))
     };
+    let mut clearance_seconds = 0.0;
     let mut current = read(0)?;
     while let Some(block) = current {
         let Block { end, len, disp, axial, forces, rot } = block;
@@ -356,6 +359,7 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
                 pairs[q].1.push(a);
             }
             work.1 += o.segment_pairs;
+            clearance_seconds += o.clearance_seconds;
             for (q, a) in o.ground.into_iter().enumerate() {
                 ground[q].1.push(a);
             }
@@ -386,6 +390,7 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
         string_tension,
         support_force,
         clearance_work: work,
+        clearance_seconds,
         clamps,
         modal,
     })
@@ -417,6 +422,7 @@ struct RecordOut {
     stations: Vec<(Vec<f64>, Vec<f64>)>,
     pairs: Vec<Approach>,
     segment_pairs: u64,
+    clearance_seconds: f64,
     ground: Vec<Approach>,
     span_tension: Vec<f64>,
     string_tension: Vec<f64>,
@@ -463,6 +469,7 @@ fn one_record(
         let flat: Vec<[f64; 3]> = lines.iter().flat_map(|l| l.iter().map(|&k| sc.pos[k])).collect();
         set.set_positions(&flat).map_err(|e| ReportError::Analysis(format!("clearance geometry: {e}")))?;
     }
+    let clock = std::time::Instant::now();
     let mut segment_pairs = 0;
     let pairs = pair_ids
         .iter()
@@ -489,6 +496,7 @@ fn one_record(
             .collect(),
         None => Vec::new(),
     };
+    let clearance_seconds = clock.elapsed().as_secs_f64();
     let span_tension = model
         .spans
         .iter()
@@ -504,6 +512,7 @@ fn one_record(
         stations,
         pairs,
         segment_pairs,
+        clearance_seconds,
         ground,
         span_tension,
         string_tension,

@@ -197,9 +197,10 @@ pub fn post(
         out!("wrote {}", w.display());
     }
     out!(
-        "clearance search: {} segments, {:.0} segment pairs tested per record",
+        "clearance search: {} segments, {:.0} segment pairs tested and {:.0} µs per record",
         outcome.clearance_work.0,
-        outcome.clearance_work.1
+        outcome.clearance_work.1,
+        1e6 * outcome.clearance_seconds_per_record
     );
     out!("{CAUTION}");
     Ok(())
