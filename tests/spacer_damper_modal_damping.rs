@@ -12,6 +12,8 @@
 //! mode's largest node, ζ = δ / √(4π² + δ²) (damped free vibration,
 //! closed form). The dashpots' dissipation enters the energy balance.
 
+mod common;
+
 use glaze_engine::analysis::dynamic_stage::run_dynamic;
 use glaze_engine::analysis::{run_modal, run_static, ModalSettings};
 use glaze_engine::results::ResultsWriter;
@@ -23,57 +25,16 @@ const HINGE_DAMPING: f64 = 2.0; // N·m·s/rad
 const HINGE_STIFFNESS: f64 = 60.0; // N·m/rad
 
 fn input_text(dynamics: &str) -> String {
-    format!(
-        r#"[glaze]
-schema_version = 1
-[conductors.acsr_795]
-diameter = 0.02814
-mass_per_length = 1.628
-axial_stiffness = 3.28e7
-bending_stiffness = 44.0
-torsional_stiffness = 35.0
-thermal_expansion = 18.9e-6
-rated_strength = 140100.0
-[insulators.dead_end]
-kind = "dead_end"
-length = 2.0
-mass = 60.0
-[[towers]]
-name = "T1"
-chainage = 0.0
-ground = 100.0
-kind = "dead_end"
-insulator = "dead_end"
-attachments = {{ A = [3.0, 24.0] }}
-[[towers]]
-name = "T2"
-chainage = 200.0
-ground = 100.0
-kind = "dead_end"
-insulator = "dead_end"
-attachments = {{ A = [3.0, 24.0] }}
-[[phases]]
-name = "A"
-conductor = "acsr_795"
-bundle = {{ count = 4, spacing = 0.457, orientation = 45.0 }}
-horizontal_tension = 24000.0
-[spacers]
-kind = "damper"
-max_subspan = 70.0
-mass = 8.0
-frame_mass = 4.0
-frame_inertia = 0.15
-hinge_stiffness = {HINGE_STIFFNESS}
-hinge_damping = {HINGE_DAMPING}
-[mesh]
-type = "beam"
-element_length = 10.0
-[stringing]
-temperature = 15.0
-[load_case]
-temperature = 15.0
-{dynamics}
-"#
+    let spacers = format!(
+        "[spacers]\nkind = \"damper\"\nmax_subspan = 70.0\nmass = 8.0\nframe_mass = 4.0\nframe_inertia = 0.15\n\
+         hinge_stiffness = {HINGE_STIFFNESS}\nhinge_damping = {HINGE_DAMPING}\n"
+    );
+    common::level_span_input(
+        200.0,
+        10.0,
+        "bundle = { count = 4, spacing = 0.457, orientation = 45.0 }",
+        &spacers,
+        dynamics,
     )
 }
 

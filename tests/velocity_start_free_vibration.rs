@@ -15,6 +15,8 @@
 //! spacer frames and the conductor to second order, and that strain energy
 //! is shed in the first step.
 
+mod common;
+
 use glaze_engine::analysis::dynamic_stage::run_dynamic;
 use glaze_engine::analysis::{run_modal, run_static, ModalSettings};
 use glaze_engine::results::ResultsWriter;
@@ -25,53 +27,12 @@ use std::sync::atomic::AtomicBool;
 const A: f64 = 0.05; // m, size of the start
 
 fn input_text(dynamics: &str) -> String {
-    format!(
-        r#"[glaze]
-schema_version = 1
-[conductors.acsr_795]
-diameter = 0.02814
-mass_per_length = 1.628
-axial_stiffness = 3.28e7
-bending_stiffness = 44.0
-torsional_stiffness = 35.0
-thermal_expansion = 18.9e-6
-rated_strength = 140100.0
-[insulators.dead_end]
-kind = "dead_end"
-length = 2.0
-mass = 60.0
-[[towers]]
-name = "T1"
-chainage = 0.0
-ground = 100.0
-kind = "dead_end"
-insulator = "dead_end"
-attachments = {{ A = [3.0, 24.0] }}
-[[towers]]
-name = "T2"
-chainage = 300.0
-ground = 100.0
-kind = "dead_end"
-insulator = "dead_end"
-attachments = {{ A = [3.0, 24.0] }}
-[[phases]]
-name = "A"
-conductor = "acsr_795"
-bundle = {{ count = 2, spacing = 0.457 }}
-horizontal_tension = 24000.0
-[spacers]
-kind = "rigid"
-max_subspan = 60.0
-mass = 2.5
-[mesh]
-type = "beam"
-element_length = 10.0
-[stringing]
-temperature = 15.0
-[load_case]
-temperature = 15.0
-{dynamics}
-"#
+    common::level_span_input(
+        300.0,
+        10.0,
+        "bundle = { count = 2, spacing = 0.457 }",
+        "[spacers]\nkind = \"rigid\"\nmax_subspan = 60.0\nmass = 2.5\n",
+        dynamics,
     )
 }
 

@@ -341,3 +341,62 @@ pub fn json_f64s(json: &str, key: &str) -> Vec<f64> {
         .map(|t| t.parse().unwrap_or_else(|_| panic!("{key}: {t:?} is not a number")))
         .collect()
 }
+
+/// Input of one level span between two dead-ends of a single phase `A`
+/// strung at 24 kN: a 795 kcmil ACSR 26/7 class conductor (ASTM B232
+/// values, from memory), beam elements of `element_length` m, 15 °C.
+/// `phase_extra` goes into the phase's table (e.g. a `bundle = …` line),
+/// `tables` after the load case (spacers, layouts), `dynamics` last.
+pub fn level_span_input(
+    span: f64,
+    element_length: f64,
+    phase_extra: &str,
+    tables: &str,
+    dynamics: &str,
+) -> String {
+    format!(
+        r#"[glaze]
+schema_version = 1
+[conductors.acsr_795]
+diameter = 0.02814
+mass_per_length = 1.628
+axial_stiffness = 3.28e7
+bending_stiffness = 44.0
+torsional_stiffness = 35.0
+thermal_expansion = 18.9e-6
+rated_strength = 140100.0
+[insulators.dead_end]
+kind = "dead_end"
+length = 2.0
+mass = 60.0
+[[towers]]
+name = "T1"
+chainage = 0.0
+ground = 100.0
+kind = "dead_end"
+insulator = "dead_end"
+attachments = {{ A = [3.0, 24.0] }}
+[[towers]]
+name = "T2"
+chainage = {span}
+ground = 100.0
+kind = "dead_end"
+insulator = "dead_end"
+attachments = {{ A = [3.0, 24.0] }}
+[[phases]]
+name = "A"
+conductor = "acsr_795"
+horizontal_tension = 24000.0
+{phase_extra}
+[mesh]
+type = "beam"
+element_length = {element_length}
+[stringing]
+temperature = 15.0
+[load_case]
+temperature = 15.0
+{tables}
+{dynamics}
+"#
+    )
+}

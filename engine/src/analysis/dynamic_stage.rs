@@ -2,7 +2,7 @@
 //! for the damping fit and the perturbation, then the nonlinear time
 //! integration with histories streamed to the results file.
 
-use super::dynamic_system::{node_velocity, DynamicSystem};
+use super::dynamic_system::{gather_into, node_velocity, DynamicSystem};
 use super::modal::{self, Linearisation, ModalSettings};
 use super::rayleigh::Rayleigh;
 use super::static_stage::run_static;
@@ -711,16 +711,9 @@ fn divergence_report(
     if let Some((_, last)) = last_record.filter(|(_, l)| l.len() == model.elements.len()) {
         let ctx = ElementContext { temperature_change: model.temperature_change };
         let config = &sys.committed;
+        let mut nodes = Vec::new();
         let change = model.elements.iter().zip(last).enumerate().map(|(i, (el, n0))| {
-            let nodes: Vec<NodeState> = el
-                .nodes()
-                .iter()
-                .map(|&n| NodeState {
-                    x0: model.nodes[n],
-                    x: config.positions[n],
-                    rotation: config.rotations[n],
-                })
-                .collect();
+            gather_into(model, config, i, &mut nodes);
             let n1 = el.output(&ctx, &nodes).axial_force;
             (i, n1 - n0, n1)
         });

@@ -61,8 +61,8 @@ struct AeroBlock {
     failure: Option<String>,
 }
 
-/// The trial or committed states of the nodes of `element` into `out`.
-fn gather_into(model: &Model, config: &Configuration, element: usize, out: &mut Vec<NodeState>) {
+/// The states at `config` of the nodes of `element` into `out`.
+pub(crate) fn gather_into(model: &Model, config: &Configuration, element: usize, out: &mut Vec<NodeState>) {
     out.clear();
     for &n in model.elements[element].nodes() {
         out.push(NodeState { x0: model.nodes[n], x: config.positions[n], rotation: config.rotations[n] });
@@ -201,14 +201,7 @@ impl<'m> DynamicSystem<'m> {
 
     fn gather_nodes(&mut self, e: usize, trial: bool) {
         let config = if trial { &self.trial } else { &self.committed };
-        self.gather.clear();
-        for &n in self.model.elements[e].nodes() {
-            self.gather.push(NodeState {
-                x0: self.model.nodes[n],
-                x: config.positions[n],
-                rotation: config.rotations[n],
-            });
-        }
+        gather_into(self.model, config, e, &mut self.gather);
     }
 
     /// g, K, D at the trial (or committed) configuration.
