@@ -177,6 +177,16 @@ fn unknown_scheme_is_refused_with_the_known_ones() {
 }
 
 #[test]
+fn unknown_linear_solver_is_refused_with_the_known_ones() {
+    let m = expect_error(
+        "duration = 10.0\ntime_step = 0.01\nlinear_solver = \"conjugate_gradient\"",
+        "linear_solver",
+        InputErrorKind::UnknownName,
+    );
+    assert!(m.contains("sparse_direct") && m.contains("banded_rcm"), "{m}");
+}
+
+#[test]
 fn duration_must_be_positive_and_not_shorter_than_the_step() {
     expect_error("duration = 0.0\ntime_step = 0.01", "duration", InputErrorKind::InvalidValue);
     expect_error("duration = -5.0\ntime_step = 0.01", "duration", InputErrorKind::InvalidValue);

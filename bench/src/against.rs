@@ -30,11 +30,11 @@ pub fn compare(new: &BenchRecord, old: &BenchRecord, tolerance: f64) -> (Vec<Cas
     let mut out = Vec::new();
     let mut unmatched = Vec::new();
     for c in &new.cases {
-        match old.cases.iter().find(|o| o.name == c.name) {
+        match old.cases.iter().find(|o| o.name == c.name && o.linear_solver == c.linear_solver) {
             Some(o) => {
                 let d = fingerprint_difference(&c.fingerprint, &o.fingerprint);
                 out.push(CaseComparison {
-                    name: c.name.clone(),
+                    name: c.label(),
                     speed_ratio: c.steps_per_s / o.steps_per_s.max(1e-300),
                     memory_ratio: if o.peak_memory_bytes > 0 {
                         c.peak_memory_bytes as f64 / o.peak_memory_bytes as f64
@@ -45,12 +45,12 @@ pub fn compare(new: &BenchRecord, old: &BenchRecord, tolerance: f64) -> (Vec<Cas
                     changed: d.is_nan() || d > tolerance,
                 });
             }
-            None => unmatched.push(format!("{} (new only)", c.name)),
+            None => unmatched.push(format!("{} (new only)", c.label())),
         }
     }
     for o in &old.cases {
-        if !new.cases.iter().any(|c| c.name == o.name) {
-            unmatched.push(format!("{} (old only)", o.name));
+        if !new.cases.iter().any(|c| c.name == o.name && c.linear_solver == o.linear_solver) {
+            unmatched.push(format!("{} (old only)", o.label()));
         }
     }
     (out, unmatched)

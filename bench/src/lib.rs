@@ -13,6 +13,7 @@ pub mod run;
 pub mod scaling;
 
 pub use cases::{named_set, ScaleCase};
+pub use glaze_solvers::SolverBackend;
 pub use record::{BenchRecord, BuildInfo, CaseRecord, BENCH_FORMAT};
 pub use run::run_case;
 

@@ -43,6 +43,10 @@ pub struct BuildInfo {
 pub struct CaseRecord {
     /// Case name (`s5p3b2e`).
     pub name: String,
+    /// Linear solver of the step (`sparse_direct`, `banded_rcm`, …; older
+    /// records: `sparse_direct`).
+    #[serde(default = "sparse_direct")]
+    pub linear_solver: String,
     /// Nodes × 6.
     pub dof: usize,
     /// Elements.
@@ -59,7 +63,7 @@ pub struct CaseRecord {
     pub factorisations: usize,
     /// Records written to the results file.
     pub records: usize,
-    /// Wall time of input, model, static state and modes, s.
+    /// Wall time of input, model, static state, modes and closing the results file, s.
     pub setup_s: f64,
     /// Wall time of the time stepping with its output, s.
     pub dynamic_s: f64,
@@ -77,6 +81,21 @@ pub struct CaseRecord {
     /// Where the stepping's wall time went (absent in older records).
     #[serde(default)]
     pub phases: PhaseTimes,
+}
+
+impl CaseRecord {
+    /// The case name, with `/solver` unless the solver is `sparse_direct`.
+    pub fn label(&self) -> String {
+        if self.linear_solver == "sparse_direct" {
+            self.name.clone()
+        } else {
+            format!("{}/{}", self.name, self.linear_solver)
+        }
+    }
+}
+
+fn sparse_direct() -> String {
+    "sparse_direct".into()
 }
 
 /// Wall time of the stepping by part, s, and the factor-and-solve floor.

@@ -137,6 +137,14 @@ enum Command {
         /// `s5p3b2e` (spans, phases, subconductors, e = earth wire), comma-separated.
         #[arg(long, default_value = "standard")]
         cases: String,
+        /// Linear solvers each case runs with, comma-separated:
+        /// `sparse_direct` (faer; the default), and the banded LU baselines
+        /// `banded_rcm` (reverse Cuthill–McKee) and `banded_natural`.
+        #[arg(long, default_value = "sparse_direct")]
+        solvers: String,
+        /// With --one: the linear solver of that case.
+        #[arg(long, hide = true, default_value = "sparse_direct")]
+        solver: String,
         /// Simulated time per case, s.
         #[arg(long, default_value_t = 10.0)]
         duration: f64,
@@ -233,14 +241,27 @@ fn main() -> ExitCode {
                 Err(e) => study_error(&e),
             }
         }
-        Command::Bench { cases, duration, out, against, tolerance, work, keep, one, record_to } => {
+        Command::Bench {
+            cases,
+            solvers,
+            solver,
+            duration,
+            out,
+            against,
+            tolerance,
+            work,
+            keep,
+            one,
+            record_to,
+        } => {
             let result = match (one, record_to) {
                 (Some(name), Some(to)) => {
-                    commands::bench_one(name, *duration, work, *keep, to).map(|()| true)
+                    commands::bench_one(name, solver, *duration, work, *keep, to).map(|()| true)
                 }
                 _ => commands::bench(
                     &commands::BenchOptions {
                         cases: cases.clone(),
+                        solvers: solvers.clone(),
                         duration: *duration,
                         out: out.clone(),
                         against: against.clone(),

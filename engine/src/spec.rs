@@ -196,6 +196,8 @@ pub struct DynamicsSpec {
     pub scheme: SchemeSpec,
     /// Modified Newton.
     pub modified_newton: bool,
+    /// Linear solver of the iteration matrix.
+    pub linear_solver: glaze_solvers::SolverBackend,
     /// Wind ramp time, in s.
     pub wind_ramp: f64,
     /// Damping.

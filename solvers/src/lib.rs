@@ -65,9 +65,14 @@ pub use dynamics::{
     AlphaParameters, IntegrationStats, Integrator, IntegratorSettings, IntegratorState, Predictor, Scheme,
     SecondOrderSystem, StepReport, StepTimings,
 };
-pub use eigen::{dense_shift_invert, lanczos_shift_invert, EigenPairs, EigenSettings};
+pub use eigen::{
+    dense_shift_invert, lanczos_shift_invert, shift_below_spectrum, EigenPairs, EigenSettings, ShiftChoice,
+};
 pub use error::{EvalError, SolverError};
-pub use linear::{FactorStats, Factorisation, LinearSolver, SparseDirect};
+pub use linear::{
+    bandwidths, reverse_cuthill_mckee, BandOrdering, BandedLu, CholeskyOrdering, FactorStats, Factorisation,
+    LinearSolver, SolverBackend, SparseDirect,
+};
 pub use load_stepping::{solve_load_path, LoadPathReport, LoadStepSettings};
 pub use newton::{newton_solve, NewtonReport, NewtonSettings, NonlinearSystem};
 pub use sparse::{Assembler, CompressedMatrix, SparsityPattern};

@@ -4,6 +4,7 @@
 
 use glaze_bench::against::{compare, table};
 use glaze_bench::scaling;
+use glaze_bench::SolverBackend;
 use glaze_bench::{build_info, named_set, run_case, BenchError, BenchRecord, CaseRecord, BENCH_FORMAT};
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -12,6 +13,9 @@ use std::process::Command;
 pub struct BenchOptions {
     /// Case sets or names, comma-separated.
     pub cases: String,
+    /// Linear solvers each case runs with, comma-separated names of
+    /// [`SolverBackend`]; the first is the one the growth is fitted on.
+    pub solvers: String,
     /// Simulated time per case, s.
     pub duration: f64,
     /// Record to write.
@@ -50,6 +54,7 @@ fn read_record(path: &Path) -> Result<BenchRecord, BenchError> {
 /// Runs one case in this process and writes its record (the child side).
 pub fn bench_one(
     name: &str,
+    solver: &str,
     duration: f64,
     work: &Path,
     keep: bool,
@@ -58,9 +63,18 @@ pub fn bench_one(
     let cases = named_set(name)
         .filter(|c| c.len() == 1)
         .ok_or_else(|| BenchError::Usage(format!("no case {name}")))?;
-    let rec = run_case(cases[0], duration, work, keep)?;
+    let solver = parse_solver(solver)?;
+    let rec = run_case(cases[0], duration, solver, work, keep)?;
     let json = serde_json::to_string_pretty(&rec).map_err(|e| BenchError::Usage(e.to_string()))?;
     write_atomic(record_to, &json)
+}
+
+fn parse_solver(name: &str) -> Result<SolverBackend, BenchError> {
+    SolverBackend::from_name(name).ok_or_else(|| {
+        BenchError::Usage(format!(
+            "--solvers {name}: give sparse_direct, banded_rcm or banded_natural (comma-separated)"
+        ))
+    })
 }
 
 /// Runs `glaze bench`; returns whether every fingerprint matched `--against`.
@@ -78,6 +92,17 @@ pub fn bench(o: &BenchOptions, quiet: bool) -> Result<bool, BenchError> {
         })?;
         cases.extend(set);
     }
+    let solvers: Vec<SolverBackend> = o
+        .solvers
+        .split(',')
+        .map(str::trim)
+        .filter(|p| !p.is_empty())
+        .map(parse_solver)
+        .collect::<Result<_, _>>()?;
+    if solvers.is_empty() {
+        return Err(BenchError::Usage("--solvers: give at least one linear solver".into()));
+    }
+    let runs: Vec<_> = cases.iter().flat_map(|&c| solvers.iter().map(move |&s| (c, s))).collect();
     std::fs::create_dir_all(&o.work)
         .map_err(|e| BenchError::Io { path: o.work.clone(), message: e.to_string() })?;
     let exe = std::env::current_exe()
@@ -87,7 +112,7 @@ pub fn bench(o: &BenchOptions, quiet: bool) -> Result<bool, BenchError> {
     let mut records: Vec<CaseRecord> = Vec::new();
     if !quiet {
         out!(
-            "{:<10} {:>8} {:>7} {:>8} {:>8} {:>9} {:>9} {:>9} {:>10} {:>9}",
+            "{:<22} {:>8} {:>7} {:>8} {:>8} {:>9} {:>9} {:>9} {:>10} {:>9}",
             "case",
             "DOF",
             "steps",
@@ -100,12 +125,13 @@ pub fn bench(o: &BenchOptions, quiet: bool) -> Result<bool, BenchError> {
             "peak MiB"
         );
     }
-    for c in cases {
+    for (c, solver) in runs {
         let name = c.name();
-        let record_to = o.work.join(format!("{name}.record.json"));
+        let record_to = o.work.join(format!("{name}-{}.record.json", solver.name()));
         let _ = std::fs::remove_file(&record_to);
         let mut cmd = Command::new(&exe);
-        cmd.args(["--quiet", "bench", "--one", &name, "--duration", &o.duration.to_string()])
+        cmd.args(["--quiet", "bench", "--one", &name, "--solver", solver.name()])
+            .args(["--duration", &o.duration.to_string()])
             .arg("--work")
             .arg(&o.work)
             .arg("--record-to")
@@ -124,8 +150,8 @@ pub fn bench(o: &BenchOptions, quiet: bool) -> Result<bool, BenchError> {
             .map_err(|e| BenchError::Io { path: record_to.clone(), message: e.to_string() })?;
         if !quiet {
             out!(
-                "{:<10} {:>8} {:>7} {:>8.2} {:>8} {:>9.2} {:>9.2} {:>9.0} {:>10.2} {:>9.0}",
-                r.name,
+                "{:<22} {:>8} {:>7} {:>8.2} {:>8} {:>9.2} {:>9.2} {:>9.0} {:>10.2} {:>9.0}",
+                r.label(),
                 r.dof,
                 r.steps,
                 r.newton_iterations as f64 / r.steps.max(1) as f64,
@@ -138,7 +164,7 @@ pub fn bench(o: &BenchOptions, quiet: bool) -> Result<bool, BenchError> {
             );
             let p = &r.phases;
             out!(
-                "{:<10} elements {:.2} s, aerodynamics {:.2} s, factorisation {:.2} s, solves {:.2} s, output {:.2} s, other {:.2} s; step {:.2}× the factor-and-solve floor of {:.2} ms",
+                "{:<22} elements {:.2} s, aerodynamics {:.2} s, factorisation {:.2} s, solves {:.2} s, output {:.2} s, other {:.2} s; step {:.2}× the factor-and-solve floor of {:.2} ms",
                 "",
                 p.elements_s,
                 p.aerodynamics_s,
@@ -165,17 +191,29 @@ pub fn bench(o: &BenchOptions, quiet: bool) -> Result<bool, BenchError> {
     if !quiet {
         out!("wrote {}", o.out.display());
     }
-    // With cases of two sizes or more: the growth of the time per step.
-    if let Some((slope, _)) = scaling::fit(&scaling::points(&record.cases)) {
+    // With cases of two sizes or more: the growth of the time per step,
+    // fitted and charted for the first solver, fitted for the others.
+    let of = |solver: SolverBackend| -> Vec<CaseRecord> {
+        record.cases.iter().filter(|c| c.linear_solver == solver.name()).cloned().collect()
+    };
+    let primary = of(solvers[0]);
+    if let Some((slope, _)) = scaling::fit(&scaling::points(&primary)) {
         let chart = o.out.with_extension("svg");
-        let svg = scaling::chart_svg(&record.cases).map_err(BenchError::Usage)?;
+        let svg = scaling::chart_svg(&primary).map_err(BenchError::Usage)?;
         write_atomic(&chart, &svg)?;
         if !quiet {
             out!(
-                "time per step grows as DOF^{slope:.2} (least squares over {} cases, log–log); chart {}",
-                record.cases.len(),
+                "time per step grows as DOF^{slope:.2} with {} (least squares over {} cases, log–log); chart {}",
+                solvers[0].name(),
+                primary.len(),
                 chart.display()
             );
+        }
+    }
+    for &s in &solvers[1..] {
+        let cases = of(s);
+        if let (Some((slope, _)), false) = (scaling::fit(&scaling::points(&cases)), quiet) {
+            out!("time per step grows as DOF^{slope:.2} with {} ({} cases)", s.name(), cases.len());
         }
     }
     let Some(old) = old else { return Ok(true) };

@@ -268,6 +268,7 @@ fn settings(d: &DynamicsSpec) -> IntegratorSettings {
     let mut s = IntegratorSettings::new(scheme, d.time_step);
     s.newton = NewtonSettings { max_iterations: 20, residual_tolerance: 1e-8, ..NewtonSettings::default() };
     s.modified_newton = d.modified_newton;
+    s.linear_solver = d.linear_solver;
     s.predictor = glaze_solvers::Predictor::ConstantAcceleration;
     s
 }

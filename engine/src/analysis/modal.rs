@@ -34,8 +34,8 @@ use crate::error::GlazeError;
 use crate::model::{Model, DOF_PER_NODE};
 use glaze_elements::{Element, ElementContext, NodeState};
 use glaze_solvers::{
-    dense_shift_invert, lanczos_shift_invert, Assembler, EigenSettings, NonlinearSystem, SolverError,
-    SparsityPattern,
+    dense_shift_invert, lanczos_shift_invert, shift_below_spectrum, Assembler, EigenSettings,
+    NonlinearSystem, SolverError, SparsityPattern,
 };
 use nalgebra::{DMatrix, Matrix3, Matrix6};
 use std::io::Write;
@@ -89,7 +89,9 @@ pub struct ModalSettings {
     pub count: usize,
     /// Eigen solver.
     pub method: EigenMethod,
-    /// Shift σ, in rad²/s²; `None` picks [`Linearisation::default_shift`].
+    /// Shift σ, in rad²/s²; `None` picks [`Linearisation::default_shift`]
+    /// for the dense solver and, for Lanczos, moves it towards ω₁² with
+    /// [`glaze_solvers::shift_below_spectrum`].
     pub shift: Option<f64>,
     /// Relative residual tolerance for accepting a mode.
     pub tolerance: f64,
@@ -295,16 +297,43 @@ impl Linearisation {
             });
         }
         let method = settings.method.resolve(n, settings.count);
-        let shift = settings.shift.unwrap_or_else(|| self.default_shift());
-        let eigen = EigenSettings {
+        // Lanczos gets its shift moved from the safe floor to just below
+        // ω₁² (certified by Cholesky): it separates the clusters of nearly
+        // equal modes of a section of similar spans.
+        let floor = self.default_shift();
+        let mut shift = match (settings.shift, method) {
+            (Some(s), _) => s,
+            (None, EigenMethod::Lanczos) => {
+                shift_below_spectrum(&self.pattern, &self.stiffness, &self.mass, floor)?.shift
+            }
+            (None, _) => floor,
+        };
+        let eigen = |shift| EigenSettings {
             count: settings.count,
             shift,
             tolerance: settings.tolerance,
             ..EigenSettings::default()
         };
         let pairs = match method {
-            EigenMethod::Lanczos => lanczos_shift_invert(&self.pattern, &self.stiffness, &self.mass, &eigen)?,
-            _ => dense_shift_invert(&self.pattern, &self.stiffness, &self.mass, &eigen)?,
+            EigenMethod::Lanczos => {
+                match lanczos_shift_invert(&self.pattern, &self.stiffness, &self.mass, &eigen(shift)) {
+                    // The moved shift is an optimisation: if the solver does
+                    // not converge with it, the safe floor gets its turn.
+                    Err(SolverError::EigenNotConverged { .. })
+                        if settings.shift.is_none() && shift != floor =>
+                    {
+                        tracing::warn!(
+                            shift,
+                            floor,
+                            "Lanczos did not converge with the moved shift; retrying at the floor"
+                        );
+                        shift = floor;
+                        lanczos_shift_invert(&self.pattern, &self.stiffness, &self.mass, &eigen(shift))?
+                    }
+                    other => other?,
+                }
+            }
+            _ => dense_shift_invert(&self.pattern, &self.stiffness, &self.mass, &eigen(shift))?,
         };
         // A negative ω² within round-off of the stiffness scale is a zero
         // frequency; anything beyond that is an unstable state.

@@ -79,6 +79,9 @@ pub struct RawDynamics {
     pub rho_inf: Option<f64>,
     /// Reuse the factorisation while Newton converges fast (default true).
     pub modified_newton: Option<bool>,
+    /// Linear solver of the step: `sparse_direct` (default; faer), or the
+    /// banded LU baselines `banded_natural` and `banded_rcm`.
+    pub linear_solver: Option<String>,
     /// Time over which the mean wind rises smoothly from zero, in s (default 0:
     /// the run starts from the static state in the full mean wind).
     pub wind_ramp: Option<f64>,

@@ -709,6 +709,16 @@ fn validate_dynamics(d: &super::schema::RawDynamics, loc: &Locator<'_>) -> Resul
             ))
         }
     };
+    let linear_solver = match d.linear_solver.as_deref() {
+        None => glaze_solvers::SolverBackend::default(),
+        Some(name) => glaze_solvers::SolverBackend::from_name(name).ok_or_else(|| {
+            loc.error(
+                K::UnknownName,
+                &key("linear_solver"),
+                format!("unknown linear solver `{name}`; known: sparse_direct, banded_natural, banded_rcm"),
+            )
+        })?,
+    };
     let damping = match &d.damping {
         None => DampingSpec::Coefficients(0.0, 0.0),
         Some(dm) => match (dm.modes, dm.ratios, dm.mass_coefficient, dm.stiffness_coefficient) {
@@ -815,6 +825,7 @@ fn validate_dynamics(d: &super::schema::RawDynamics, loc: &Locator<'_>) -> Resul
         output_interval,
         scheme,
         modified_newton: d.modified_newton.unwrap_or(true),
+        linear_solver,
         wind_ramp,
         damping,
         perturbation,

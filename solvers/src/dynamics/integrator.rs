@@ -5,8 +5,8 @@
 use super::SecondOrderSystem;
 use crate::newton::norm_inf;
 use crate::{
-    AlphaParameters, CompressedMatrix, FactorStats, LinearSolver, NewtonSettings, Scheme, SolverError,
-    SparseDirect, SparsityPattern,
+    AlphaParameters, CompressedMatrix, FactorStats, LinearSolver, NewtonSettings, Scheme, SolverBackend,
+    SolverError, SparsityPattern,
 };
 use std::time::Instant;
 
@@ -62,6 +62,9 @@ pub struct IntegratorSettings {
     /// First guess of each step's increment. Default
     /// [`Predictor::ConstantDisplacement`].
     pub predictor: Predictor,
+    /// Linear solver of the iteration matrix. Default
+    /// [`SolverBackend::SparseDirect`].
+    pub linear_solver: SolverBackend,
 }
 
 impl IntegratorSettings {
@@ -73,7 +76,7 @@ impl IntegratorSettings {
 
     /// Settings with step `dt` (s): min_dt = dt/1024, max_dt = dt, default
     /// Newton settings, full Newton, reuse_ratio 0.25, constant-displacement
-    /// predictor.
+    /// predictor, faer's sparse direct solver.
     pub fn new(scheme: Scheme, dt: f64) -> Self {
         Self {
             scheme,
@@ -84,6 +87,7 @@ impl IntegratorSettings {
             modified_newton: false,
             reuse_ratio: 0.25,
             predictor: Predictor::default(),
+            linear_solver: SolverBackend::default(),
         }
     }
 
@@ -208,7 +212,7 @@ pub struct Integrator<S: SecondOrderSystem> {
     system: S,
     settings: IntegratorSettings,
     params: AlphaParameters,
-    solver: SparseDirect,
+    solver: Box<dyn LinearSolver + Send>,
     n: usize,
     /// Committed time t_n, s.
     t: f64,
@@ -380,7 +384,7 @@ impl<S: SecondOrderSystem> Integrator<S> {
     ) -> Self {
         let n = system.dim();
         let nnz = system.pattern().nnz();
-        let solver = SparseDirect::new(system.pattern());
+        let solver = settings.linear_solver.build(system.pattern());
         let dt = settings.dt;
         Self {
             system,

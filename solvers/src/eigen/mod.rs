@@ -25,11 +25,13 @@
 
 mod dense;
 mod lanczos;
+mod shift;
 #[cfg(test)]
 mod tests;
 
 pub use dense::dense_shift_invert;
 pub use lanczos::lanczos_shift_invert;
+pub use shift::{shift_below_spectrum, ShiftChoice};
 
 use crate::{FactorStats, SolverError, SparsityPattern};
 

@@ -93,6 +93,26 @@ pub struct SparseDirect {
     cholesky_failure: Option<usize>,
     /// faer's choice between simplicial and supernodal kernels (tests force each).
     supernodal: SupernodalThreshold,
+    /// Fill-reducing ordering of LLᵀ.
+    cholesky_ordering: CholeskyOrdering,
+    /// Its permutation (perm, inverse) for [`CholeskyOrdering::ReverseCuthillMcKee`].
+    custom_perm: Option<(Vec<usize>, Vec<usize>)>,
+}
+
+/// Fill-reducing ordering of the LLᵀ factor (faer's LU always uses COLAMD).
+/// Measured on the scale sections (docs/benchmarks.md, "Orderings"): AMD
+/// gives the least fill and the fastest factor and solves, so it is the
+/// default.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
+pub enum CholeskyOrdering {
+    /// Approximate minimum degree (Amestoy, Davis & Duff 1996, SIAM J.
+    /// Matrix Anal. Appl. 17), faer's implementation.
+    #[default]
+    Amd,
+    /// The equation order as given (chainage order of the model's nodes).
+    Natural,
+    /// Reverse Cuthill–McKee ([`reverse_cuthill_mckee`](super::reverse_cuthill_mckee)).
+    ReverseCuthillMcKee,
 }
 
 /// Symbolic LLᵀ with its numeric values and workspaces, allocated once.
@@ -203,7 +223,36 @@ impl SparseDirect {
             pivot_ratio: None,
             cholesky_failure: None,
             supernodal: SupernodalThreshold::AUTO,
+            cholesky_ordering: CholeskyOrdering::Amd,
+            custom_perm: None,
         }
+    }
+
+    /// Sets the fill-reducing ordering of LLᵀ (default AMD); `pattern` must
+    /// be the one given to [`new`](Self::new). Takes effect at the next
+    /// symbolic analysis, i.e. call it before the first factorisation.
+    pub fn with_cholesky_ordering(mut self, pattern: &SparsityPattern, ordering: CholeskyOrdering) -> Self {
+        self.cholesky_ordering = ordering;
+        // The natural order goes in as the identity permutation: faer 0.24's
+        // `SymmetricOrdering::Identity` takes the matrix as the upper
+        // triangle unconverted, and ours is the lower one.
+        self.custom_perm = (ordering != CholeskyOrdering::Amd).then(|| {
+            let perm = match ordering {
+                CholeskyOrdering::ReverseCuthillMcKee => super::reverse_cuthill_mckee(pattern),
+                _ => (0..pattern.dim()).collect(),
+            };
+            let mut inverse = vec![0; perm.len()];
+            for (new, &old) in perm.iter().enumerate() {
+                inverse[old] = new;
+            }
+            (perm, inverse)
+        });
+        self
+    }
+
+    /// Values stored in the LLᵀ factor (its fill), once analysed.
+    pub fn cholesky_factor_len(&self) -> Option<usize> {
+        self.llt.as_ref().map(|st| st.symbolic.len_val())
     }
 
     /// Sets the relative symmetry tolerance (see [`Self::DEFAULT_SYMMETRY_TOLERANCE`]).
@@ -289,7 +338,12 @@ impl SparseDirect {
             let symbolic = factorize_symbolic_cholesky(
                 self.lower.as_ref(),
                 Side::Lower,
-                SymmetricOrdering::Amd,
+                match (self.cholesky_ordering, &self.custom_perm) {
+                    (_, Some((perm, inverse))) => {
+                        SymmetricOrdering::Custom(faer::perm::PermRef::new_checked(perm, inverse, self.n))
+                    }
+                    _ => SymmetricOrdering::Amd,
+                },
                 CholeskySymbolicParams {
                     supernodal_flop_ratio_threshold: self.supernodal,
                     ..Default::default()
@@ -699,6 +753,36 @@ mod tests {
     /// O(n ε) (Higham, *Accuracy and Stability of Numerical Algorithms*, 2nd ed.,
     /// Thm 10.3 and Thm 9.4; LU growth factor is tiny on these matrices).
     const C: f64 = 10.0;
+
+    #[test]
+    fn every_cholesky_ordering_is_backward_stable_and_natural_order_fills_a_band() {
+        // Backward error as in Higham's Thm 10.3 (see `C`) for each ordering;
+        // the natural order of a tridiagonal matrix has no fill at all
+        // (n diagonal + n − 1 sub-diagonal values in L, closed form).
+        let mut rng = Lcg::new(0x5eed_0300);
+        for ordering in
+            [CholeskyOrdering::Amd, CholeskyOrdering::Natural, CholeskyOrdering::ReverseCuthillMcKee]
+        {
+            for &n in &[50, 300] {
+                let groups = random_groups(&mut rng, n, n / 2, 5);
+                let p = pattern_of(n, &groups);
+                let values = spd_values(&mut rng, &p, &groups);
+                let mut solver = SparseDirect::new(&p).with_cholesky_ordering(&p, ordering);
+                assert_eq!(solver.factor(&values).unwrap(), Factorisation::Cholesky);
+                let res = scaled_residual(&mut solver, &p, &values, &mut rng);
+                assert!(res <= C, "{ordering:?}, n = {n}: scaled residual {res}");
+            }
+            let n = 200;
+            let groups: Vec<Vec<Option<usize>>> = (0..n - 1).map(|i| vec![Some(i), Some(i + 1)]).collect();
+            let p = pattern_of(n, &groups);
+            let values = spd_values(&mut rng, &p, &groups);
+            let mut solver = SparseDirect::new(&p).with_cholesky_ordering(&p, ordering);
+            solver.factor(&values).unwrap();
+            if ordering == CholeskyOrdering::Natural {
+                assert_eq!(solver.cholesky_factor_len(), Some(2 * n - 1));
+            }
+        }
+    }
 
     #[test]
     fn spd_random_sparse_systems_use_cholesky_and_are_backward_stable() {

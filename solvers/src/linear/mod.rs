@@ -1,10 +1,58 @@
-//! Linear solvers for `A x = b` on a [`SparsityPattern`](crate::SparsityPattern).
+//! Linear solvers for `A x = b` on a [`SparsityPattern`](crate::SparsityPattern):
+//! [`SparseDirect`] (faer) and the banded baseline [`BandedLu`] with its
+//! orderings ([`BandOrdering`], [`reverse_cuthill_mckee`]).
 
+mod banded;
 mod direct;
+mod ordering;
 
-pub use direct::SparseDirect;
+pub use banded::BandedLu;
+pub use direct::{CholeskyOrdering, SparseDirect};
+pub use ordering::{bandwidths, reverse_cuthill_mckee, BandOrdering};
 
-use crate::SolverError;
+use crate::{SolverError, SparsityPattern};
+
+/// Which [`LinearSolver`] a time integration factorises its iteration
+/// matrix with.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
+pub enum SolverBackend {
+    /// faer's sparse Cholesky / LU ([`SparseDirect`], COLAMD ordering for LU).
+    #[default]
+    SparseDirect,
+    /// Banded LU with partial pivoting ([`BandedLu`]) on the given ordering:
+    /// the baseline that shows what the sparse factor buys.
+    Banded(BandOrdering),
+}
+
+impl SolverBackend {
+    /// A solver of this kind for `pattern`.
+    pub fn build(self, pattern: &SparsityPattern) -> Box<dyn LinearSolver + Send> {
+        match self {
+            Self::SparseDirect => Box::new(SparseDirect::new(pattern)),
+            Self::Banded(ordering) => Box::new(BandedLu::new(pattern, ordering)),
+        }
+    }
+
+    /// Short name: `sparse_direct`, `banded_natural` or `banded_rcm`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Self::SparseDirect => "sparse_direct",
+            Self::Banded(BandOrdering::Natural) => "banded_natural",
+            Self::Banded(BandOrdering::ReverseCuthillMcKee) => "banded_rcm",
+        }
+    }
+
+    /// The backend of a [`name`](Self::name), if it is one.
+    pub fn from_name(name: &str) -> Option<Self> {
+        [
+            Self::SparseDirect,
+            Self::Banded(BandOrdering::Natural),
+            Self::Banded(BandOrdering::ReverseCuthillMcKee),
+        ]
+        .into_iter()
+        .find(|b| b.name() == name)
+    }
+}
 
 /// Which factorisation the last [`LinearSolver::factor`] produced.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
