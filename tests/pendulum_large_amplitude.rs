@@ -99,6 +99,7 @@ fn pendulum(theta0: f64) -> (Model, Configuration, f64) {
         support_labels: vec!["hinge".into()],
         conductor_rated_strength: Vec::new(),
         towers: Vec::new(),
+        route: Vec::new(),
         ground_profile: Vec::new(),
         groups: BTreeMap::new(),
         stringing_load: case_load.clone(),

@@ -191,3 +191,20 @@ fn bad_spacer_dampers() {
     let msg = expect_error(&text, "spacers.hinge_damping", InputErrorKind::InvalidValue, line);
     assert!(msg.contains("damper"), "{msg}");
 }
+
+#[test]
+fn a_line_angle_beyond_what_one_tower_turns() {
+    let base = demo("section_five_spans.toml");
+    let old = "attachments = { A = [4.5, 34.0], B = [4.5, 28.5], C = [4.5, 23.0], EW = [0.0, 39.0] }";
+    assert!(base.contains(old), "the demo's S-3 attachments changed; update this test");
+    let text = base.replacen(old, &format!("line_angle = 75.0\n{old}"), 1);
+    let line = line_of(&text, "name = \"S-3\"", "line_angle =");
+    let msg = expect_error(&text, "towers[2].line_angle", InputErrorKind::InvalidValue, line);
+    assert!(msg.contains("75") && msg.contains("60"), "{msg}");
+    // Within the range the same section loads and turns.
+    let text = base.replacen(old, &format!("line_angle = -15.0\n{old}"), 1);
+    let registry = ElementRegistry::with_builtin();
+    let spec = input::load_str(Path::new("examples/angle.toml"), &text, &registry).unwrap();
+    let angle = spec.section.expect("a section").towers[2].line_angle;
+    assert!((angle + 15f64.to_radians()).abs() < 1e-15, "{angle}");
+}

@@ -351,8 +351,11 @@ pub struct Tower {
     pub insulator: Option<usize>,
     /// Per phase (index of [`TensionSection::phases`]): `[across, height above ground]`, in m.
     pub attachments: Vec<[f64; 2]>,
-    /// Attachment stiffness `[along, across, vertical]`, in N/m; `None`: rigid.
+    /// Attachment stiffness `[along, across, vertical]` in the crossarm's
+    /// frame, in N/m; `None`: rigid.
     pub stiffness: Option<[f64; 3]>,
+    /// Change of route direction here, in rad (positive turning left).
+    pub line_angle: f64,
 }
 
 /// Bundle geometry.

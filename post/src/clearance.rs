@@ -373,29 +373,99 @@ pub fn min_distance(a: &PolylineSet, b: &PolylineSet) -> Option<ClearanceHit> {
     ClearanceSearch::new().search(a, b)
 }
 
-/// Ground elevation (m) as a piecewise-linear function of the chainage along
-/// a straight route: chainage `c = (x − x₀, y − y₀)·u` for a plan point
-/// `(x, y)`, origin `(x₀, y₀)` and plan unit vector `u`. Beyond the first and
-/// last profile points the elevation is held constant.
+/// A route in plan as a polyline of straight legs. A plan point `(x, y)`
+/// takes the chainage of its projection on the nearest leg (the first and
+/// last legs reach on without end), so on a straight route from origin
+/// `(x₀, y₀)` along unit `u` it is `c = (x − x₀, y − y₀)·u`.
 #[derive(Debug, Clone, PartialEq)]
-pub struct GroundProfile {
-    origin: [f64; 2],
-    direction: [f64; 2],
-    chainage: Vec<f64>,
-    elevation: Vec<f64>,
+pub struct Route {
+    legs: Vec<Leg>,
 }
 
-impl GroundProfile {
-    /// A profile from the plan origin (m), the route direction in plan (any
-    /// length, normalised here) and `(chainage m, elevation m)` points with
-    /// strictly increasing chainage (at least one point).
-    pub fn new(origin: [f64; 2], direction: [f64; 2], points: &[(f64, f64)]) -> Result<Self, ClearanceError> {
+/// One straight leg of a route: start point, unit direction, length (m)
+/// and chainage at its start (m).
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Leg {
+    origin: [f64; 2],
+    direction: [f64; 2],
+    length: f64,
+    chainage: f64,
+}
+
+impl Route {
+    /// A straight route from the plan origin (m) along `direction` (any
+    /// length, normalised here), chainage 0 at the origin.
+    pub fn straight(origin: [f64; 2], direction: [f64; 2]) -> Result<Self, ClearanceError> {
         let norm = direction[0].hypot(direction[1]);
         if !norm.is_finite() || norm <= 0.0 || !origin.iter().all(|v| v.is_finite()) {
             return Err(ClearanceError::BadProfile(
                 "route origin and direction must be finite, direction non-zero",
             ));
         }
+        let direction = [direction[0] / norm, direction[1] / norm];
+        Ok(Self { legs: vec![Leg { origin, direction, length: f64::INFINITY, chainage: 0.0 }] })
+    }
+
+    /// The polyline through the plan points `points` (m; at least two),
+    /// chainage 0 at the first and the plan distance between points as the
+    /// chainage difference.
+    pub fn through(points: &[[f64; 2]]) -> Result<Self, ClearanceError> {
+        if points.len() < 2 || !points.iter().flatten().all(|v| v.is_finite()) {
+            return Err(ClearanceError::BadProfile("a route needs at least two finite plan points"));
+        }
+        let mut legs = Vec::with_capacity(points.len() - 1);
+        let mut chainage = 0.0;
+        for w in points.windows(2) {
+            let d = [w[1][0] - w[0][0], w[1][1] - w[0][1]];
+            let length = d[0].hypot(d[1]);
+            if length <= 0.0 {
+                return Err(ClearanceError::BadProfile("two route points coincide"));
+            }
+            legs.push(Leg { origin: w[0], direction: [d[0] / length, d[1] / length], length, chainage });
+            chainage += length;
+        }
+        Ok(Self { legs })
+    }
+
+    /// Chainage (m) of the plan position of `p` (its height is ignored).
+    pub fn chainage_of(&self, p: Point3) -> f64 {
+        let last = self.legs.len() - 1;
+        let mut best = (f64::INFINITY, 0.0);
+        for (i, leg) in self.legs.iter().enumerate() {
+            let (dx, dy) = (p[0] - leg.origin[0], p[1] - leg.origin[1]);
+            let along = dx * leg.direction[0] + dy * leg.direction[1];
+            let lo = if i == 0 { f64::NEG_INFINITY } else { 0.0 };
+            let hi = if i == last { f64::INFINITY } else { leg.length };
+            let t = along.clamp(lo, hi);
+            let distance = (dx - t * leg.direction[0]).hypot(dy - t * leg.direction[1]);
+            if distance < best.0 {
+                best = (distance, leg.chainage + t);
+            }
+        }
+        best.1
+    }
+}
+
+/// Ground elevation (m) as a piecewise-linear function of the chainage along
+/// a [`Route`]. Beyond the first and last profile points the elevation is
+/// held constant.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GroundProfile {
+    route: Route,
+    chainage: Vec<f64>,
+    elevation: Vec<f64>,
+}
+
+impl GroundProfile {
+    /// A profile along a straight route from the plan origin (m) in the plan
+    /// direction `direction` with `(chainage m, elevation m)` points of
+    /// strictly increasing chainage (at least one point).
+    pub fn new(origin: [f64; 2], direction: [f64; 2], points: &[(f64, f64)]) -> Result<Self, ClearanceError> {
+        Self::along(Route::straight(origin, direction)?, points)
+    }
+
+    /// A profile along `route` with points as in [`new`](Self::new).
+    pub fn along(route: Route, points: &[(f64, f64)]) -> Result<Self, ClearanceError> {
         if points.is_empty() {
             return Err(ClearanceError::BadProfile("no profile points"));
         }
@@ -406,8 +476,7 @@ impl GroundProfile {
             return Err(ClearanceError::BadProfile("chainages must increase strictly"));
         }
         Ok(Self {
-            origin,
-            direction: [direction[0] / norm, direction[1] / norm],
+            route,
             chainage: points.iter().map(|p| p.0).collect(),
             elevation: points.iter().map(|p| p.1).collect(),
         })
@@ -415,7 +484,7 @@ impl GroundProfile {
 
     /// Chainage (m) of the plan position of `p`.
     pub fn chainage_of(&self, p: Point3) -> f64 {
-        (p[0] - self.origin[0]) * self.direction[0] + (p[1] - self.origin[1]) * self.direction[1]
+        self.route.chainage_of(p)
     }
 
     /// Ground elevation (m) at chainage `c` (m).
@@ -458,7 +527,9 @@ pub struct GroundHit {
 /// chainage are linear in the parameter and the ground is piecewise linear
 /// in chainage, so the clearance is piecewise linear and its minimum lies at
 /// a segment end or where the segment passes over a profile point: exactly
-/// those candidates are evaluated. `None` for an empty set.
+/// those candidates are evaluated. (A segment whose ends lie nearest to two
+/// legs of a turning route, a few metres at an angle tower, takes its
+/// chainage as linear between its ends.) `None` for an empty set.
 pub fn min_vertical_clearance(set: &PolylineSet, profile: &GroundProfile) -> Option<GroundHit> {
     let mut best: Option<GroundHit> = None;
     let mut consider = |polyline: usize, segment: usize, s: f64, point: Point3, c: f64, g: f64| {
@@ -727,6 +798,28 @@ mod tests {
         assert!(GroundProfile::new([0.0; 2], [1.0, 0.0], &[(1.0, 0.0), (1.0, 2.0)]).is_err());
         let flat = GroundProfile::new([0.0; 2], [1.0, 0.0], &[(0.0, 0.0)]).unwrap();
         assert!(min_vertical_clearance(&empty, &flat).is_none());
+    }
+
+    /// Chainage on a route that turns 90° left at (300, 0) and is 400 m
+    /// long after the turn: by hand, a point beside a leg takes the foot of
+    /// its perpendicular, beyond the last point the last leg goes on.
+    #[test]
+    fn chainage_along_a_turning_route() {
+        let route = Route::through(&[[0.0, 0.0], [300.0, 0.0], [300.0, 400.0]]).unwrap();
+        assert_abs_diff_eq!(route.chainage_of([120.0, -7.0, 30.0]), 120.0, epsilon = 1e-12);
+        assert_abs_diff_eq!(route.chainage_of([295.0, 250.0, 30.0]), 550.0, epsilon = 1e-12);
+        assert_abs_diff_eq!(route.chainage_of([300.0, 450.0, 0.0]), 750.0, epsilon = 1e-12);
+        assert_abs_diff_eq!(route.chainage_of([-20.0, 1.0, 0.0]), -20.0, epsilon = 1e-12);
+        // Outside the corner the tower's point is the nearest: chainage 300.
+        assert_abs_diff_eq!(route.chainage_of([310.0, -10.0, 0.0]), 300.0, epsilon = 1e-12);
+        let ground = GroundProfile::along(route, &[(0.0, 0.0), (700.0, 70.0)]).unwrap();
+        assert_abs_diff_eq!(
+            ground.elevation_at(ground.chainage_of([299.0, 200.0, 0.0])),
+            50.0,
+            epsilon = 1e-12
+        );
+        assert!(Route::through(&[[0.0, 0.0]]).is_err());
+        assert!(Route::through(&[[1.0, 2.0], [1.0, 2.0]]).is_err());
     }
 
     #[test]

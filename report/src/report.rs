@@ -104,7 +104,7 @@ pub struct PairClearance {
     pub min_distance_m: f64,
     /// When, s.
     pub time_s: f64,
-    /// Where: chainage (global X) of the point on the first wire, m.
+    /// Where: chainage along the route of the point on the first wire, m.
     pub chainage_m: f64,
     /// Distance at rest (first record), m.
     pub initial_distance_m: f64,
@@ -379,7 +379,7 @@ pub fn build_report(
                 phases: [model.phase_name(Some(*i)), model.phase_name(Some(*j))],
                 min_distance_m: hit.distance,
                 time_s: t[r],
-                chainage_m: hit.point[0],
+                chainage_m: model.chainage_of(hit.point),
                 initial_distance_m: a[0].distance,
                 margin_m: post.phase_to_phase.map(|req| hit.distance - req),
             })
@@ -394,7 +394,7 @@ pub fn build_report(
                 phase: model.phase_name(Some(*p)),
                 min_clearance_m: hit.distance,
                 time_s: t[r],
-                chainage_m: hit.point[0],
+                chainage_m: model.chainage_of(hit.point),
                 margin_m: post.phase_to_ground.map(|req| hit.distance - req),
             })
         })

@@ -5,6 +5,7 @@
 
 use crate::ReportError;
 use glaze_engine::results::{FORMAT_NAME, FORMAT_VERSION};
+use glaze_post::clearance::Route;
 use hdf5::types::VarLenUnicode;
 use ndarray::s;
 use std::path::{Path, PathBuf};
@@ -56,7 +57,11 @@ pub struct ModelInfo {
     pub phase_names: Vec<String>,
     /// Tower names and chainages, m (empty for a row).
     pub towers: Vec<(String, f64)>,
-    /// Ground profile (chainage = global X, elevation), m.
+    /// Plan point `(x, y)` of each tower, m: the route is the polyline
+    /// through them (empty for a row; files without `towers/plan` were
+    /// written for straight routes along X, and get `(chainage, 0)`).
+    pub route: Vec<[f64; 2]>,
+    /// Ground profile (chainage along the route, elevation), m.
     pub ground_profile: Vec<(f64, f64)>,
     /// Meshed spans.
     pub spans: Vec<SpanInfo>,
@@ -84,6 +89,15 @@ impl ModelInfo {
     /// Number of nodes.
     pub fn node_count(&self) -> usize {
         self.static_position.len()
+    }
+
+    /// Chainage along the route of the plan position of `p`, m (global X
+    /// in a row).
+    pub fn chainage_of(&self, p: [f64; 3]) -> f64 {
+        match Route::through(&self.route) {
+            Ok(route) => route.chainage_of(p),
+            Err(_) => p[0],
+        }
     }
 
     /// Name of phase `p` (`"conductor"` in a row).
@@ -205,6 +219,15 @@ impl ResultsFile {
         let phase_names = strings(path, file, "model/phase_names")?;
         let names = strings(path, file, "model/towers/name")?;
         let chainage = f64s(path, file, "model/towers/chainage")?;
+        let route = if file.link_exists("model/towers/plan") {
+            let plan = f64s(path, file, "model/towers/plan")?;
+            if plan.len() != 2 * chainage.len() {
+                return Err(h5err(path, "model/towers/plan", "not one (x, y) point per tower"));
+            }
+            plan.chunks_exact(2).map(|c| [c[0], c[1]]).collect()
+        } else {
+            chainage.iter().map(|&c| [c, 0.0]).collect()
+        };
         let towers = names.into_iter().zip(chainage).collect();
         let ground = f64s(path, file, "model/ground_profile")?;
         let ground_profile = ground.chunks_exact(2).map(|c| (c[0], c[1])).collect();
@@ -292,6 +315,7 @@ impl ResultsFile {
             static_support_force,
             phase_names,
             towers,
+            route,
             ground_profile,
             spans,
             strings,

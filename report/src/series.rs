@@ -6,7 +6,7 @@
 
 use crate::results_file::{ModelInfo, ModesInfo, ResultsFile};
 use crate::ReportError;
-use glaze_post::clearance::{min_vertical_clearance, ClearanceSearch, GroundProfile, PolylineSet};
+use glaze_post::clearance::{min_vertical_clearance, ClearanceSearch, GroundProfile, PolylineSet, Route};
 use rayon::prelude::*;
 
 /// Records read from the file at a time.
@@ -245,8 +245,13 @@ pub fn read_series(file: &ResultsFile) -> Result<Series, ReportError> {
     let phases = phase_polylines(model);
     let profile = if model.ground_profile.len() >= 2 {
         Some(
-            GroundProfile::new([0.0, 0.0], [1.0, 0.0], &model.ground_profile)
-                .map_err(|e| ReportError::Analysis(format!("ground profile: {e}")))?,
+            match model.route.len() {
+                0 | 1 => GroundProfile::new([0.0, 0.0], [1.0, 0.0], &model.ground_profile),
+                _ => {
+                    Route::through(&model.route).and_then(|r| GroundProfile::along(r, &model.ground_profile))
+                }
+            }
+            .map_err(|e| ReportError::Analysis(format!("ground profile: {e}")))?,
         )
     } else {
         None

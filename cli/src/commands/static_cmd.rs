@@ -83,7 +83,7 @@ pub fn run_static(file: &Path, out: &Path, quiet: bool) -> Result<(), GlazeError
     }
     if !strings.is_empty() {
         out!();
-        out!("suspension strings: swing of the yoke from plumb along and across the line;");
+        out!("suspension strings: swing of the yoke from plumb along and across the line (at an angle tower, its bisector);");
         out!("dead-end strings: angle below the horizontal and in plan from the line");
         out!(
             "{:<10} {:<6} {:>12} {:>12} {:>12}",
@@ -118,12 +118,15 @@ fn string_lines(
         .map(|s| {
             let top = result.config.positions[s.hinges[0]];
             let d = result.config.positions[s.yoke] - top;
+            // In the route's frame at the tower (the bisector at an angle tower).
+            let (along, across) = model.route_axes(s.tower);
+            let (dx, dy, dz) = (d.dot(&along), d.dot(&across), d.z);
             let tension = s.elements.first().map_or(0.0, |&e| result.element_output[e].axial_force);
             let (a, b) = match section.towers[s.tower].kind {
                 glaze_engine::spec::TowerKind::DeadEnd => {
-                    ((-d.z).atan2(d.x.abs()).to_degrees(), d.y.atan2(d.x.abs()).to_degrees())
+                    ((-dz).atan2(dx.abs()).to_degrees(), dy.atan2(dx.abs()).to_degrees())
                 }
-                _ => (d.x.atan2(-d.z).to_degrees(), d.y.atan2(-d.z).to_degrees()),
+                _ => (dx.atan2(-dz).to_degrees(), dy.atan2(-dz).to_degrees()),
             };
             format!(
                 "{:<10} {:<6} {:>12.2} {:>12.2} {:>12.1}",

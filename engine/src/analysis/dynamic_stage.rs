@@ -590,7 +590,7 @@ const DOF_NAMES: [&str; 6] = [
 
 /// Where node `node` is: its wire, span and chainage, or what else it is.
 pub(crate) fn describe_node(model: &Model, node: usize) -> String {
-    let chainage = model.nodes.get(node).map_or(f64::NAN, |p| p.x);
+    let chainage = model.nodes.get(node).map_or(f64::NAN, |&p| model.chainage_of(p));
     let mut what = Vec::new();
     if let Some(s) = model.spans.iter().find(|s| s.nodes.contains(&node)) {
         let span = s.route_span + 1;

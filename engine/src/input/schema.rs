@@ -342,12 +342,16 @@ pub struct RawTower {
     pub kind: String,
     /// Name of the insulator string type used by the phases at this tower.
     pub insulator: Option<String>,
-    /// Per phase or earth wire name: `[across, height above ground]`, in m.
+    /// Per phase or earth wire name: `[across, height above ground]`, in m
+    /// (across: along the crossarm, positive to the left looking up-chainage).
     pub attachments: BTreeMap<String, [f64; 2]>,
-    /// Translational stiffness of each attachment point `[along, across, vertical]`,
-    /// in N/m (tower flexibility); default rigid.
+    /// Translational stiffness of each attachment point `[along, across, vertical]`
+    /// in the crossarm's frame, in N/m (tower flexibility); default rigid.
     pub stiffness: Option<[f64; 3]>,
-    /// Change of route direction at this tower, in degrees (positive turning left).
+    /// Change of route direction at this tower, in degrees (positive turning
+    /// left, at most 60 either way; default 0). The crossarm, the attachment
+    /// offsets, the bundle and `stiffness` then lie on the bisector of the
+    /// angle. The first span runs along +X; wind directions stay global.
     pub line_angle: Option<f64>,
 }
 

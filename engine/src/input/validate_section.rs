@@ -22,6 +22,10 @@ const STRING_AXIAL_STIFFNESS: f64 = 1.0e8;
 /// spacers at 20 m fill a 20 km span).
 const MAX_SPACERS_PER_SPAN: usize = 1000;
 
+/// Largest line angle taken at one tower, in degrees (a larger turn is
+/// made by two towers or is outside what the plan geometry here checks).
+const MAX_LINE_ANGLE_DEG: f64 = 60.0;
+
 /// Distance within which two device or spacer stations of one phase share
 /// a node, in m (the length of a clamp, common practice).
 pub const STATION_MERGE: f64 = 0.5;
@@ -319,15 +323,19 @@ pub(super) fn validate_section(
                 "a dead_end tower inside the route ends the tension section; model each section in its own file",
             ));
         }
-        if let Some(a) = t.line_angle {
-            if a != 0.0 {
+        let line_angle = match t.line_angle {
+            None => 0.0,
+            Some(a) if a.is_finite() && a.abs() <= MAX_LINE_ANGLE_DEG => a.to_radians(),
+            Some(a) => {
                 return Err(loc.error(
                     K::InvalidValue,
                     &key("line_angle"),
-                    "line angles are not modelled yet: the route of a section is straight in plan",
-                ));
+                    format!(
+                        "a line angle is the change of route direction in degrees, within ±{MAX_LINE_ANGLE_DEG}; got {a}"
+                    ),
+                ))
             }
-        }
+        };
         let needs_string = phases.iter().any(|p| !p.earth_wire);
         let insulator = match &t.insulator {
             None if needs_string => {
@@ -418,6 +426,7 @@ pub(super) fn validate_section(
             insulator,
             attachments,
             stiffness,
+            line_angle,
         });
     }
     // Attachment points must not clash: phases on one tower at least 0.5 m apart.

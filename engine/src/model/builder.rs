@@ -250,6 +250,7 @@ fn build_row(
         support_nodes,
         conductor_rated_strength: spec.conductors.iter().map(|c| c.rated_strength).collect(),
         towers: Vec::new(),
+        route: Vec::new(),
         ground_profile: Vec::new(),
         groups,
         stringing_load,

@@ -3,6 +3,7 @@
 
 mod builder;
 mod dof_map;
+mod route;
 mod section_builder;
 
 pub use builder::{build, COARSE_ELEMENT_LENGTH};
@@ -83,6 +84,9 @@ pub struct Model {
     pub conductor_rated_strength: Vec<f64>,
     /// Towers of a section in chainage order: name and chainage, m (empty for a row).
     pub towers: Vec<(String, f64)>,
+    /// Plan point `(x, y)` of each tower on the route, in m (empty for a
+    /// row); the route is the polyline through them.
+    pub route: Vec<[f64; 2]>,
     /// Ground of a section's route: (chainage m, elevation m) points (empty if none given).
     pub ground_profile: Vec<(f64, f64)>,
     /// Named node-index groups written to `/model/groups`.
@@ -102,6 +106,33 @@ pub struct Model {
 }
 
 impl Model {
+    /// Chainage along the route of the plan position of `p`, m (global X
+    /// in a row).
+    pub fn chainage_of(&self, p: Vector3<f64>) -> f64 {
+        match glaze_post::clearance::Route::through(&self.route) {
+            Ok(route) => route.chainage_of([p.x, p.y, p.z]),
+            Err(_) => p.x,
+        }
+    }
+
+    /// Unit plan vectors `(along, across)` of the route at tower `t`: the
+    /// bisector of the spans either side (forward) and `z × along` (to the
+    /// left); at an end tower its span's direction. `(X, Y)` without a route.
+    pub fn route_axes(&self, t: usize) -> (Vector3<f64>, Vector3<f64>) {
+        let leg = |a: usize| {
+            let (p, q) = (self.route[a], self.route[a + 1]);
+            Vector3::new(q[0] - p[0], q[1] - p[1], 0.0).normalize()
+        };
+        let n = self.route.len();
+        let along = match t {
+            _ if n < 2 || t >= n => Vector3::x(),
+            0 => leg(0),
+            t if t == n - 1 => leg(n - 2),
+            t => (leg(t - 1) + leg(t)).normalize(),
+        };
+        (along, Vector3::z().cross(&along))
+    }
+
     /// Number of nodes.
     pub fn node_count(&self) -> usize {
         self.nodes.len()

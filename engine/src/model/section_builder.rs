@@ -6,14 +6,18 @@
 //! **Stringing state.** Each span of each subconductor is form-found as a
 //! discrete chain ([`DiscreteChain::strung_with`]) at the phase's
 //! horizontal tension, bare, with the spacers' weight at their nodes.
-//! Suspension strings hang plumb: with one tension in every span their
-//! horizontal pulls cancel. Dead-end strings lie along the resultant of
-//! the conductor pull and their own weight, found by fixed-point
-//! iteration. Each string's unstretched length is its length less the
+//! On a straight route suspension strings hang plumb: with one tension in
+//! every span their horizontal pulls cancel. At an angle tower (see
+//! [`RoutePlan`]) an I-string leans into the angle under the pull
+//! `2 H sin(θ/2)` of each subconductor, and dead-end strings lie along the
+//! resultant of the conductor pull and their own weight; both found by
+//! fixed-point iteration. A V-string's yoke stays under its crossarm, the
+//! legs sharing the angle load by the statics of the yoke. Each string's unstretched length is its length less the
 //! stretch under its stringing tension, so the strung section is in
 //! equilibrium (up to the small deformation of the next-to-rigid yoke and
 //! spacer frames). Devices, ice, temperature and wind make the load case.
 
+use super::route::RoutePlan;
 use super::{DofMap, Model, SpanMesh, StringMesh, DOF_PER_NODE};
 use crate::aero_loads::ElementAero;
 use crate::devices::{self, Covering, DeviceSite, Station, RIGID_ARM};
@@ -35,6 +39,9 @@ use std::sync::Arc;
 /// Stiffness of the twist restraint at dead-end yokes over GJ/ℓ of the
 /// adjacent element (as at the supports of a row).
 const TORSION_RESTRAINT_FACTOR: f64 = 1e4;
+
+/// A chain form-found in one span, its unit plan direction and plan length (m).
+type Chain = (DiscreteChain, Vector3<f64>, f64);
 
 /// Two stations of one phase closer than this share a node, in m.
 const STATION_MERGE: f64 = 0.5;
@@ -150,6 +157,7 @@ pub(super) fn build_section(
     let g = spec.load_case.gravity;
     let towers = &section.towers;
     let n_spans = section.span_count();
+    let route = RoutePlan::of(section);
     let mut mesh = Mesh::default();
     let mut spans = Vec::new();
     let mut strings = Vec::new();
@@ -213,11 +221,20 @@ pub(super) fn build_section(
         let w = c.mass_per_length * g;
         let count = phase.bundle.count;
         let grip = grips[p];
-        let offsets: Vec<Vector3<f64>> =
-            (0..count).map(|k| phase.bundle.offset(k)).map(|[a, u]| Vector3::new(0.0, a, u)).collect();
+        // Subconductor offsets from the bundle centre at each tower, in the
+        // crossarm's frame (the bundle turns with the route at an angle tower).
+        let offsets: Vec<Vec<Vector3<f64>>> = (0..towers.len())
+            .map(|t| {
+                (0..count)
+                    .map(|k| phase.bundle.offset(k))
+                    .map(|[a, u]| route.across[t] * a + Vector3::z() * u)
+                    .collect()
+            })
+            .collect();
         let attach: Vec<Vector3<f64>> = towers
             .iter()
-            .map(|t| Vector3::new(t.chainage, t.attachments[p][0], t.ground + t.attachments[p][1]))
+            .enumerate()
+            .map(|(t, tw)| route.at(t, tw.attachments[p][0], tw.ground + tw.attachments[p][1]))
             .collect();
         let string_of =
             |t: usize| towers[t].insulator.filter(|_| !phase.earth_wire).map(|i| &section.insulators[i]);
@@ -283,59 +300,99 @@ pub(super) fn build_section(
                 Some(s) => match towers[t].kind {
                     TowerKind::Suspension => attach[t] - Vector3::z() * s.length,
                     TowerKind::DeadEnd => {
-                        let into = if t == 0 { 1.0 } else { -1.0 };
-                        attach[t] + Vector3::x() * (into * s.length)
+                        let into =
+                            if t == 0 { route.span_direction[0] } else { -route.span_direction[n_spans - 1] };
+                        attach[t] + into * s.length
                     }
                 },
             })
             .collect();
-        let chain_of =
-            |yoke: &[Vector3<f64>], s: usize| -> Result<(DiscreteChain, Vector3<f64>, f64), InputError> {
-                let (a, b) = (yoke[s], yoke[s + 1]);
-                let plan = Vector3::new(b.x - a.x, b.y - a.y, 0.0);
-                let span = CatenarySpan {
-                    horizontal_length: plan.norm(),
-                    height_difference: b.z - a.z,
-                    weight_per_length: w,
-                    axial_stiffness: c.axial_stiffness,
-                };
-                let chain = DiscreteChain::strung_with(span, h, &layouts[s]).map_err(|e| {
-                    loc.error(
-                        InputErrorKind::Impossible,
-                        &format!("phases[{p}].horizontal_tension"),
-                        format!("span {}: {e}", s + 1),
-                    )
-                })?;
-                Ok((chain, plan / plan.norm(), span.horizontal_length))
+        let chain_between = |a: Vector3<f64>,
+                             b: Vector3<f64>,
+                             s: usize|
+         -> Result<(DiscreteChain, Vector3<f64>, f64), InputError> {
+            let plan = Vector3::new(b.x - a.x, b.y - a.y, 0.0);
+            let span = CatenarySpan {
+                horizontal_length: plan.norm(),
+                height_difference: b.z - a.z,
+                weight_per_length: w,
+                axial_stiffness: c.axial_stiffness,
             };
-        // Pull of the conductors (and half the string) on the yoke at the section's ends.
-        let end_pull = |chain: &DiscreteChain, dir: Vector3<f64>, first: bool, t: usize| -> Vector3<f64> {
+            let chain = DiscreteChain::strung_with(span, h, &layouts[s]).map_err(|e| {
+                loc.error(
+                    InputErrorKind::Impossible,
+                    &format!("phases[{p}].horizontal_tension"),
+                    format!("span {}: {e}", s + 1),
+                )
+            })?;
+            Ok((chain, plan / plan.norm(), span.horizontal_length))
+        };
+        // Chains of every subconductor in every span, between the yokes' clamps.
+        let sub_chains = |yoke: &[Vector3<f64>], s: usize| -> Result<Vec<Chain>, InputError> {
+            (0..count)
+                .map(|k| chain_between(yoke[s] + offsets[s][k], yoke[s + 1] + offsets[s + 1][k], s))
+                .collect()
+        };
+        // Pull of one subconductor on its clamp at the start (`first`) or end of a span.
+        let pull = |(chain, dir, _): &Chain, first: bool| -> Vector3<f64> {
             let n = chain.element_lengths.len();
-            let per_sub = if first {
+            if first {
                 dir * h + Vector3::z() * (chain.first_vertical - 0.5 * w * chain.element_lengths[0])
             } else {
                 -dir * h - Vector3::z() * (chain.last_vertical + 0.5 * w * chain.element_lengths[n - 1])
-            };
-            per_sub * count as f64 - Vector3::z() * half_string_weight(t)
-        };
-        let last = towers.len() - 1;
-        for _ in 0..100 {
-            let mut moved: f64 = 0.0;
-            for (t, s, first) in [(0, 0, true), (last, n_spans - 1, false)] {
-                if let Some(st) = string_of(t) {
-                    let (chain, dir, _) = chain_of(&yoke, s)?;
-                    let f = end_pull(&chain, dir, first, t);
-                    let y = attach[t] + f.normalize() * st.length;
-                    moved = moved.max((y - yoke[t]).norm());
-                    yoke[t] = y;
-                }
             }
-            if moved < 1e-12 {
+        };
+        // Force on the string's lower end at tower t: the conductors' pulls
+        // and half the string's weight (its moment about the hinge).
+        let yoke_force = |subs: &[Vec<Chain>], t: usize| -> Vector3<f64> {
+            let mut f = -Vector3::z() * half_string_weight(t);
+            if t > 0 {
+                f += subs[t - 1].iter().map(|c| pull(c, false)).sum::<Vector3<f64>>();
+            }
+            if t < n_spans {
+                f += subs[t].iter().map(|c| pull(c, true)).sum::<Vector3<f64>>();
+            }
+            f
+        };
+        // Strings that swing to the resultant (I-strings and dead-end
+        // strings; a V-string's yoke stays below its crossarm): fixed-point
+        // iteration, re-forming only the spans whose ends moved. On a straight
+        // route the suspension strings come out plumb at the first pass.
+        let swings = |t: usize| {
+            string_of(t).is_some_and(|s| {
+                towers[t].kind == TowerKind::DeadEnd || !matches!(s.kind, InsulatorKind::VString { .. })
+            })
+        };
+        let mut subs: Vec<Vec<Chain>> =
+            (0..n_spans).map(|s| sub_chains(&yoke, s)).collect::<Result<_, _>>()?;
+        let mut converged = false;
+        for _ in 0..100 {
+            let mut moved = vec![0.0f64; towers.len()];
+            for t in (0..towers.len()).filter(|&t| swings(t)) {
+                let length = string_of(t).map_or(0.0, |s| s.length);
+                let y = attach[t] + yoke_force(&subs, t).normalize() * length;
+                moved[t] = (y - yoke[t]).norm();
+                yoke[t] = y;
+            }
+            if moved.iter().all(|&m| m < 1e-12) {
+                converged = true;
                 break;
             }
+            for s in 0..n_spans {
+                if moved[s] > 0.0 || moved[s + 1] > 0.0 {
+                    subs[s] = sub_chains(&yoke, s)?;
+                }
+            }
         }
-        let chains: Vec<(DiscreteChain, Vector3<f64>, f64)> =
-            (0..n_spans).map(|s| chain_of(&yoke, s)).collect::<Result<_, _>>()?;
+        if !converged {
+            return Err(loc.error(
+                InputErrorKind::Impossible,
+                &format!("phases[{p}].horizontal_tension"),
+                "the insulator strings found no stringing equilibrium in 100 passes",
+            ));
+        }
+        let chains: Vec<Chain> =
+            (0..n_spans).map(|s| chain_between(yoke[s], yoke[s + 1], s)).collect::<Result<_, _>>()?;
 
         // Conductor tangent at chain node i of span s (clamp and twist axes:
         // a clamp's twist axis must follow the conductor, or the stiff twist
@@ -369,10 +426,13 @@ pub(super) fn build_section(
                     }
                     Some(k) => {
                         for (d, kd) in k.iter().enumerate() {
-                            let ground = mesh.node(mesh.nodes[node] + Vector3::ith(d, 1.0));
+                            let frame = [route.along[t], route.across[t], Vector3::z()];
+                            let ground = mesh.node(mesh.nodes[node] + frame[d]);
                             mesh.restrained[ground] = [true; DOF_PER_NODE];
-                            mesh.support_label
-                                .insert(ground, format!("{label} spring {}", ["x", "y", "z"][d]));
+                            mesh.support_label.insert(
+                                ground,
+                                format!("{label} spring {}", ["along", "across", "vertical"][d]),
+                            );
                             let spring = Link::new(
                                 [node, ground],
                                 1.0,
@@ -390,23 +450,43 @@ pub(super) fn build_section(
                 None => fix(&mut mesh, y, format!("{} {}", tower.name, phase.name))?,
                 Some(s) => {
                     // Force on the yoke from the conductors and half the string.
-                    let mut f = Vector3::zeros();
-                    if t > 0 {
-                        let (ch, dir, _) = &chains[t - 1];
-                        f += end_pull(ch, *dir, false, t) + Vector3::z() * half_string_weight(t);
-                    }
-                    if t < last {
-                        let (ch, dir, _) = &chains[t];
-                        f += end_pull(ch, *dir, true, t) + Vector3::z() * half_string_weight(t);
-                    }
-                    f -= Vector3::z() * half_string_weight(t);
+                    let f = yoke_force(&subs, t);
                     let legs: Vec<Vector3<f64>> = match s.kind {
                         InsulatorKind::VString { half_angle } => {
-                            let spread = Vector3::y() * (s.length * half_angle.tan());
+                            let spread = route.across[t] * (s.length * half_angle.tan());
                             vec![attach[t] + spread, attach[t] - spread]
                         }
                         _ => vec![attach[t]],
                     };
+                    // Leg tensions that hold the yoke: along the string for
+                    // one leg; for a V, the force's components across and
+                    // up shared by the two legs (the V's plane).
+                    let axes: Vec<Vector3<f64>> =
+                        legs.iter().map(|top| (top - yoke[t]).normalize()).collect();
+                    let tensions: Vec<f64> = match axes.as_slice() {
+                        [_] => vec![f.norm()],
+                        [a, b] => {
+                            let (n, z) = (route.across[t], Vector3::z());
+                            let det = a.dot(&n) * b.dot(&z) - b.dot(&n) * a.dot(&z);
+                            let (fn_, fz) = (-f.dot(&n), -f.dot(&z));
+                            vec![
+                                (fn_ * b.dot(&z) - b.dot(&n) * fz) / det,
+                                (a.dot(&n) * fz - fn_ * a.dot(&z)) / det,
+                            ]
+                        }
+                        _ => unreachable!("a string has one or two legs"),
+                    };
+                    if let Some(k) = tensions.iter().position(|&x| x.is_nan() || x <= 0.0) {
+                        return Err(invalid(
+                            &key,
+                            format!(
+                                "leg {} of the V-string of phase {} would be in compression in the stringing state ({:.0} N): the line angle is too large for this V-string",
+                                k + 1,
+                                phase.name,
+                                tensions[k]
+                            ),
+                        ));
+                    }
                     let mut hinges = Vec::new();
                     let mut elements = Vec::new();
                     for (leg, top) in legs.iter().enumerate() {
@@ -417,10 +497,7 @@ pub(super) fn build_section(
                         };
                         fix(&mut mesh, hinge, label)?;
                         let length = (yoke[t] - top).norm();
-                        // Share of the pull along this leg (equal legs of a V share the vertical pull).
-                        let axis = (top - yoke[t]) / length;
-                        let tension = f.norm() / legs.len() as f64 / axis.dot(&(-f.normalize())).max(1e-6);
-                        let l0 = length / (1.0 + tension / s.axial_stiffness);
+                        let l0 = length / (1.0 + tensions[leg] / s.axial_stiffness);
                         let leg_mass = s.mass / legs.len() as f64;
                         let link = Link::new(
                             [hinge, y],
@@ -451,7 +528,7 @@ pub(super) fn build_section(
             let clamp: Vec<usize> = if count == 1 {
                 vec![y]
             } else {
-                let cl: Vec<usize> = offsets.iter().map(|o| mesh.node(yoke[t] + o)).collect();
+                let cl: Vec<usize> = offsets[t].iter().map(|o| mesh.node(yoke[t] + o)).collect();
                 mesh.frame(y, &cl, tower_tangent(t), RIGID_ARM, grip, false).map_err(|e| invalid(&key, e))?;
                 cl
             };
@@ -465,8 +542,7 @@ pub(super) fn build_section(
             _ => RIGID_ARM,
         };
         for s in 0..n_spans {
-            let (chain, dir, _) = &chains[s];
-            let across = Vector3::z().cross(dir);
+            let across = Vector3::z().cross(&chains[s].1);
             let span_ice = spec.load_case.ice_on(s);
             let ice_mass = span_ice.map_or(0.0, |i| i.mass_per_length(c.diameter));
             let ice_polar = span_ice.map_or(0.0, |i| i.polar_inertia_per_length(c.diameter));
@@ -480,8 +556,8 @@ pub(super) fn build_section(
             let covered: Vec<&Covering> =
                 coverings.iter().filter(|cv| cv.phase == p && cv.span == s).collect();
             let mut span_nodes: Vec<Vec<usize>> = Vec::new();
-            for (k, o) in offsets.iter().enumerate() {
-                let start = yoke[s] + o;
+            for (k, (chain, dir, _)) in subs[s].iter().enumerate() {
+                let start = yoke[s] + offsets[s][k];
                 let mut ids = vec![clamps[s][k]];
                 for &(x, z) in &chain.nodes[1..chain.nodes.len() - 1] {
                     ids.push(mesh.node(start + dir * x + Vector3::z() * z));
@@ -571,7 +647,8 @@ pub(super) fn build_section(
             let st = stations.get_mut(&(p, s)).expect("stations of every span");
             for station in st.iter_mut().filter(|x| x.spacer) {
                 let sub: Vec<usize> = span_nodes.iter().map(|ids| ids[station.chain_index]).collect();
-                let centre = mesh.nodes[sub[0]] - offsets[0];
+                // Bundle centre: the mean of the subconductors (a regular polygon).
+                let centre = sub.iter().map(|&n| mesh.nodes[n]).sum::<Vector3<f64>>() / count as f64;
                 let hub = mesh.node(centre);
                 let axis = tangent(s, station.chain_index);
                 let frame_mass = match section.spacers.as_ref().map(|x| x.kind) {
@@ -670,8 +747,8 @@ impl DeviceSite for Site<'_> {
             return end;
         }
         let sub: Vec<usize> = (0..count).map(|k| self.chains[&(st.phase, st.span, k)][index]).collect();
-        let offset = self.section.phases[st.phase].bundle.offset(0);
-        let centre = self.mesh.nodes[sub[0]] - Vector3::new(0.0, offset[0], offset[1]);
+        // Bundle centre: the mean of the subconductors (a regular polygon).
+        let centre = sub.iter().map(|&n| self.mesh.nodes[n]).sum::<Vector3<f64>>() / count as f64;
         let hub = self.mesh.node(centre);
         // The frame joins the device to the bundle: built as device arms.
         // Arms of a few decimetres between distinct points cannot fail.
@@ -777,6 +854,7 @@ fn finish(
         conductor_rated_strength: spec.conductors.iter().map(|c| c.rated_strength).collect(),
         support_labels,
         towers: section.towers.iter().map(|t| (t.name.clone(), t.chainage)).collect(),
+        route: RoutePlan::of(section).points.iter().map(|p| [p.x, p.y]).collect(),
         ground_profile: section.ground_profile.clone(),
         groups,
         stringing_load,

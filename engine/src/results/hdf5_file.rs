@@ -181,6 +181,8 @@ impl ResultsWriter {
         dataset(&towers, "name", names.view(), "1", t)?;
         let chainage: Array1<f64> = model.towers.iter().map(|(_, c)| *c).collect();
         write_f64(&towers, "chainage", chainage.view().into_dyn(), "m", t)?;
+        let plan = Array2::from_shape_fn((model.route.len(), 2), |(i, k)| model.route[i][k]);
+        write_f64(&towers, "plan", plan.view().into_dyn(), "m", t)?;
         let ground = Array2::from_shape_fn((model.ground_profile.len(), 2), |(i, k)| {
             [model.ground_profile[i].0, model.ground_profile[i].1][k]
         });
