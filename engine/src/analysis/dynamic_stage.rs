@@ -18,6 +18,7 @@ use crate::spec::{
 };
 use glaze_elements::{ElementContext, NodeState};
 use glaze_solvers::{Integrator, IntegratorSettings, NewtonSettings, Scheme, SecondOrderSystem};
+use rayon::prelude::*;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::Instant;
 
@@ -286,6 +287,9 @@ struct Energy {
     worst: f64,
     initial_total: Option<f64>,
     origin: Vec<nalgebra::Vector3<f64>>,
+    /// Rayleigh dissipation power `vᵀC v` at `v`, W, once known (the
+    /// trapezoid's end value of one step is the start value of the next).
+    damping_power: Option<f64>,
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -335,6 +339,7 @@ fn integrate(
                 worst: 0.0,
                 initial_total: None,
                 origin,
+                damping_power: None,
             };
             history.push(record(model, start, &integ, &mut energy))?;
             (history, integ, energy, 1)
@@ -357,7 +362,7 @@ fn integrate(
                 system.committed.rotations[n] = nalgebra::Matrix3::from_column_slice(r);
             }
             system.trial.clone_from(&system.committed);
-            let history = HistoryWriter::reopen(writer, dims, cp.records_written, cp.buffered)?;
+            let mut history = HistoryWriter::reopen(writer, dims, cp.records_written, cp.buffered)?;
             if let (Some(t), Some(last)) = (cp.last_written_time, cp.records_written.checked_sub(1)) {
                 if history.written_time(last)?.to_bits() != t.to_bits() {
                     return Err(refuse(format!(
@@ -382,6 +387,7 @@ fn integrate(
                 worst: e.worst,
                 initial_total: e.initial_total,
                 origin: e.origin.into_iter().map(nalgebra::Vector3::from).collect(),
+                damping_power: None,
             };
             (history, integ, energy, cp.next_output)
         }
@@ -436,14 +442,14 @@ fn integrate(
         if control.checkpoints && policy.enabled && due && next <= outputs {
             let clock = Instant::now();
             let wall = prior_wall + started.elapsed().as_secs_f64();
-            write_checkpoint(spec, writer, &history, &integ, &energy, fingerprint, next, wall)?;
+            write_checkpoint(spec, writer, &mut history, &integ, &energy, fingerprint, next, wall)?;
             last_checkpoint = (integ.time(), Instant::now());
             output_s += clock.elapsed().as_secs_f64();
         }
     }
     if interrupted && control.checkpoints && policy.enabled {
         let wall = prior_wall + started.elapsed().as_secs_f64();
-        write_checkpoint(spec, writer, &history, &integ, &energy, fingerprint, next, wall)?;
+        write_checkpoint(spec, writer, &mut history, &integ, &energy, fingerprint, next, wall)?;
     }
     history.flush()?;
     let stats = integ.stats();
@@ -492,13 +498,15 @@ fn system_fingerprint(system: &DynamicSystem<'_>) -> u64 {
 fn write_checkpoint(
     spec: &SectionSpec,
     writer: &ResultsWriter,
-    history: &HistoryWriter,
+    history: &mut HistoryWriter,
     integ: &Integrator<DynamicSystem<'_>>,
     e: &Energy,
     fingerprint: u64,
     next: usize,
     wall_time_s: f64,
 ) -> Result<(), GlazeError> {
+    // The block being written goes to the file first, then the file to disk.
+    history.settle()?;
     writer.sync()?;
     let written = history.written();
     let last_written_time = match written.checked_sub(1) {
@@ -748,13 +756,15 @@ fn accumulate(integ: &Integrator<DynamicSystem<'_>>, e: &mut Energy) {
     let sys = integ.system();
     let v = integ.velocity();
     let h = integ.time() - e.time;
-    let mut cv = vec![0.0; v.len()];
-    sys.pattern().mul_vec(sys.damping(), v, &mut cv);
-    let mut cv0 = vec![0.0; v.len()];
-    sys.pattern().mul_vec(sys.damping(), &e.v, &mut cv0);
-    let p1: f64 = v.iter().zip(&cv).map(|(a, b)| a * b).sum();
-    let p0: f64 = e.v.iter().zip(&cv0).map(|(a, b)| a * b).sum();
+    let power = |u: &[f64]| {
+        let mut cu = vec![0.0; u.len()];
+        sys.pattern().mul_vec(sys.damping(), u, &mut cu);
+        u.iter().zip(&cu).map(|(a, b)| a * b).sum::<f64>()
+    };
+    let p0 = e.damping_power.unwrap_or_else(|| power(&e.v));
+    let p1 = power(v);
     e.dissipated += 0.5 * h * (p0 + p1);
+    e.damping_power = Some(p1);
     let w1: f64 = v.iter().zip(&sys.aero_force).map(|(a, b)| a * b).sum();
     let w0: f64 = e.v.iter().zip(&e.f_aero).map(|(a, b)| a * b).sum();
     e.aero_work += 0.5 * h * (w0 + w1);
@@ -796,22 +806,25 @@ fn record(
     let ctx = ElementContext { temperature_change: model.temperature_change };
     // Stored strain energy of the state itself (not a path integral), so a
     // run that blows up shows in the balance.
-    let stored: f64 = model
+    let gather = |el: &dyn glaze_elements::Element, nodes: &mut Vec<NodeState>| {
+        nodes.clear();
+        nodes.extend(el.nodes().iter().map(|&n| NodeState {
+            x0: model.nodes[n],
+            x: config.positions[n],
+            rotation: config.rotations[n],
+        }));
+    };
+    // Per element on the pool, summed in element order (the same on any
+    // thread count).
+    let per_element: Vec<(f64, f64)> = model
         .elements
-        .iter()
-        .map(|el| {
-            let nodes: Vec<NodeState> = el
-                .nodes()
-                .iter()
-                .map(|&n| NodeState {
-                    x0: model.nodes[n],
-                    x: config.positions[n],
-                    rotation: config.rotations[n],
-                })
-                .collect();
-            el.strain_energy(&ctx, &nodes)
+        .par_iter()
+        .map_init(Vec::new, |nodes, el| {
+            gather(el.as_ref(), nodes);
+            (el.strain_energy(&ctx, nodes), el.output(&ctx, nodes).axial_force)
         })
-        .sum();
+        .collect();
+    let stored: f64 = per_element.iter().map(|p| p.0).sum();
     let strain = stored - *e.initial_strain.get_or_insert(stored);
     let total = kinetic + strain + gravity + e.dissipated - e.aero_work;
     let initial = *e.initial_total.get_or_insert(total);
@@ -825,22 +838,7 @@ fn record(
     if kinetic + e.dissipated + e.aero_work.abs() > 0.0 {
         e.worst = e.worst.max((total - initial).abs() / scale);
     }
-    let axial_force = model
-        .elements
-        .iter()
-        .map(|el| {
-            let nodes: Vec<NodeState> = el
-                .nodes()
-                .iter()
-                .map(|&n| NodeState {
-                    x0: model.nodes[n],
-                    x: config.positions[n],
-                    rotation: config.rotations[n],
-                })
-                .collect();
-            el.output(&ctx, &nodes).axial_force
-        })
-        .collect();
+    let axial_force = per_element.iter().map(|p| p.1).collect();
     Record {
         time: integ.time(),
         displacement: (0..nn)
@@ -866,7 +864,11 @@ fn support_forces(
     let ctx = ElementContext { temperature_change: model.temperature_change };
     let mut full = vec![0.0; model.node_count() * DOF_PER_NODE];
     let mut f = vec![0.0; 12];
-    for el in &model.elements {
+    // Only the entries of restrained nodes are read: the elements that
+    // touch one (in element order, as a full assembly would add them).
+    let supported =
+        |el: &dyn glaze_elements::Element| el.nodes().iter().any(|&n| model.restrained[n].iter().any(|&r| r));
+    for el in model.elements.iter().filter(|el| supported(el.as_ref())) {
         let nodes: Vec<NodeState> = el
             .nodes()
             .iter()

@@ -1,6 +1,10 @@
 //! Streaming of `/dynamic` histories: extendible datasets chunked along
-//! time and deflate-compressed, appended a block of records at a time so a
-//! run of any length needs memory for one block only.
+//! time and compressed (byte shuffle, then deflate level 1), appended a
+//! block of records at a time so a run of any length needs memory for two
+//! blocks only. A full block is compressed and written on a thread of its
+//! own while the run steps on; the next block, a flush, a checkpoint or
+//! the end of the run waits for it, so the file's contents and the order
+//! of writes are those of a serial writer.
 
 use super::hdf5_file::ResultsWriter;
 use crate::error::GlazeError;
@@ -44,6 +48,20 @@ pub struct Record {
 
 /// Appends records to `/dynamic`.
 pub struct HistoryWriter {
+    /// The datasets; `None` while a block is being written by `pending`.
+    sink: Option<Sink>,
+    /// The block being written, handing the datasets back when done.
+    pending: Option<std::thread::JoinHandle<(Sink, Result<(), GlazeError>)>>,
+    buffer: Vec<Record>,
+    /// Records on the file or being written.
+    written: usize,
+    path: PathBuf,
+    /// Records after which writes fail ([`FAIL_AFTER_RECORDS_VAR`]).
+    fail_after: Option<usize>,
+}
+
+/// The `/dynamic` datasets and their inner sizes.
+struct Sink {
     time: hdf5::Dataset,
     displacement: hdf5::Dataset,
     rotation: hdf5::Dataset,
@@ -51,14 +69,10 @@ pub struct HistoryWriter {
     axial: hdf5::Dataset,
     support: hdf5::Dataset,
     energy: hdf5::Dataset,
-    buffer: Vec<Record>,
-    written: usize,
     nodes: usize,
     elements: usize,
     supports: usize,
     path: PathBuf,
-    /// Records after which writes fail ([`FAIL_AFTER_RECORDS_VAR`]).
-    fail_after: Option<usize>,
 }
 
 fn err(path: &std::path::Path, e: impl std::fmt::Display) -> GlazeError {
@@ -72,7 +86,7 @@ fn extendible(
     unit: &str,
     path: &std::path::Path,
 ) -> Result<hdf5::Dataset, GlazeError> {
-    let b = g.new_dataset::<f64>().deflate(4);
+    let b = g.new_dataset::<f64>().shuffle().deflate(1);
     let ds = match inner {
         [] => b.chunk((BLOCK,)).shape((0..,)).create(name),
         [a] => b.chunk((BLOCK, (*a).max(1))).shape((0.., *a)).create(name),
@@ -103,7 +117,7 @@ impl HistoryWriter {
         let columns: Array1<VarLenUnicode> =
             ENERGY_COLUMNS.iter().map(|c| c.parse().unwrap_or_default()).collect();
         energy.new_attr_builder().with_data(columns.view()).create("columns").map_err(|e| err(&path, e))?;
-        Ok(Self {
+        let sink = Sink {
             time: extendible(&g, "time", &[], "s", &path)?,
             displacement: extendible(&g, "displacement", &[nodes, 3], "m", &path)?,
             rotation: extendible(&g, "rotation", &[nodes, 4], "1", &path)?,
@@ -111,11 +125,16 @@ impl HistoryWriter {
             axial: extendible(&g, "element_axial_force", &[elements], "N", &path)?,
             support: extendible(&g, "support_force", &[supports, 3], "N", &path)?,
             energy,
-            buffer: Vec::with_capacity(BLOCK),
-            written: 0,
             nodes,
             elements,
             supports,
+            path: path.clone(),
+        };
+        Ok(Self {
+            sink: Some(sink),
+            pending: None,
+            buffer: Vec::with_capacity(BLOCK),
+            written: 0,
             path,
             fail_after: std::env::var(FAIL_AFTER_RECORDS_VAR).ok().and_then(|v| v.trim().parse().ok()),
         })
@@ -147,7 +166,7 @@ impl HistoryWriter {
             }
             Ok(ds)
         };
-        let mut w = Self {
+        let sink = Sink {
             time: open("time", &[])?,
             displacement: open("displacement", &[nodes, 3])?,
             rotation: open("rotation", &[nodes, 4])?,
@@ -155,34 +174,54 @@ impl HistoryWriter {
             axial: open("element_axial_force", &[elements])?,
             support: open("support_force", &[supports, 3])?,
             energy: open("energy", &[ENERGY_COLUMNS.len()])?,
-            buffer: Vec::with_capacity(BLOCK),
-            written,
             nodes,
             elements,
             supports,
             path: path.clone(),
-            fail_after: std::env::var(FAIL_AFTER_RECORDS_VAR).ok().and_then(|v| v.trim().parse().ok()),
         };
         let resize = |ds: &hdf5::Dataset| {
             let mut shape = ds.shape();
             shape[0] = written;
             ds.resize(shape).map_err(|e| err(&path, e))
         };
-        for ds in [&w.time, &w.displacement, &w.rotation, &w.velocity, &w.axial, &w.support, &w.energy] {
+        let all =
+            [&sink.time, &sink.displacement, &sink.rotation, &sink.velocity, &sink.axial, &sink.support];
+        for ds in all.into_iter().chain([&sink.energy]) {
             resize(ds)?;
         }
-        w.buffer = buffered;
-        Ok(w)
+        Ok(Self {
+            sink: Some(sink),
+            pending: None,
+            buffer: buffered,
+            written,
+            path: path.clone(),
+            fail_after: std::env::var(FAIL_AFTER_RECORDS_VAR).ok().and_then(|v| v.trim().parse().ok()),
+        })
     }
 
-    /// Time of written record `i`, s (read back from the file).
-    pub fn written_time(&self, i: usize) -> Result<f64, GlazeError> {
-        let v: Vec<f64> =
-            self.time.read_slice_1d::<f64, _>(s![i..i + 1]).map_err(|e| err(&self.path, e))?.to_vec();
-        v.first().copied().ok_or_else(|| err(&self.path, format!("record {i} is not in the file")))
+    /// Waits for the block being written, if any, and reports its outcome.
+    pub fn settle(&mut self) -> Result<(), GlazeError> {
+        if let Some(job) = self.pending.take() {
+            let (sink, outcome) =
+                job.join().map_err(|_| err(&self.path, "the thread writing the histories stopped"))?;
+            self.sink = Some(sink);
+            outcome?;
+        }
+        Ok(())
     }
 
-    /// Records on the file (whole blocks, until the final flush).
+    /// Time of written record `i`, s (read back from the file, after any
+    /// block being written).
+    pub fn written_time(&mut self, i: usize) -> Result<f64, GlazeError> {
+        self.settle()?;
+        let path = &self.path;
+        let sink = self.sink.as_ref().ok_or_else(|| err(path, "an earlier write of the histories failed"))?;
+        let v: Vec<f64> = sink.time.read_slice_1d::<f64, _>(s![i..i + 1]).map_err(|e| err(path, e))?.to_vec();
+        v.first().copied().ok_or_else(|| err(path, format!("record {i} is not in the file")))
+    }
+
+    /// Records on the file or being written (whole blocks, until the final
+    /// flush); after [`settle`](Self::settle), on the file.
     pub fn written(&self) -> usize {
         self.written
     }
@@ -192,11 +231,13 @@ impl HistoryWriter {
         &self.buffer
     }
 
-    /// Buffers one record; writes the block when full.
+    /// Buffers one record; when the block is full, waits for the block
+    /// before it and starts writing this one on a thread of its own.
     pub fn push(&mut self, record: Record) -> Result<(), GlazeError> {
         self.buffer.push(record);
         if self.buffer.len() == BLOCK {
-            self.flush()?;
+            self.settle()?;
+            self.launch()?;
         }
         Ok(())
     }
@@ -211,12 +252,9 @@ impl HistoryWriter {
         self.len() == 0
     }
 
-    /// Writes the buffered records.
-    pub fn flush(&mut self) -> Result<(), GlazeError> {
+    /// Hands the buffered records to a writing thread (call settled).
+    fn launch(&mut self) -> Result<(), GlazeError> {
         let k = self.buffer.len();
-        if k == 0 {
-            return Ok(());
-        }
         let (a, b) = (self.written, self.written + k);
         if self.fail_after.is_some_and(|n| b > n) {
             return Err(err(
@@ -224,9 +262,43 @@ impl HistoryWriter {
                 format!("No space left on device (os error 28), simulated by {FAIL_AFTER_RECORDS_VAR}"),
             ));
         }
+        let path = &self.path;
+        let sink = self.sink.take().ok_or_else(|| err(path, "an earlier write of the histories failed"))?;
+        let block = std::mem::replace(&mut self.buffer, Vec::with_capacity(BLOCK));
+        self.written = b;
+        self.pending = Some(std::thread::spawn(move || {
+            let outcome = sink.write(a, &block);
+            (sink, outcome)
+        }));
+        Ok(())
+    }
+
+    /// Writes the buffered records and waits until all are on the file.
+    pub fn flush(&mut self) -> Result<(), GlazeError> {
+        self.settle()?;
+        if !self.buffer.is_empty() {
+            self.launch()?;
+            self.settle()?;
+        }
+        Ok(())
+    }
+}
+
+impl Drop for HistoryWriter {
+    /// A block still being written is finished before the file can close.
+    fn drop(&mut self) {
+        if let Some(job) = self.pending.take() {
+            let _ = job.join();
+        }
+    }
+}
+
+impl Sink {
+    /// Writes `buf` as records `a..a + buf.len()`.
+    fn write(&self, a: usize, buf: &[Record]) -> Result<(), GlazeError> {
+        let (k, b) = (buf.len(), a + buf.len());
         let (n, e, sn) = (self.nodes, self.elements, self.supports);
         let p = &self.path;
-        let buf = &self.buffer;
         let time: Array1<f64> = buf.iter().map(|r| r.time).collect();
         let disp = Array3::from_shape_fn((k, n, 3), |(t, i, d)| buf[t].displacement[i][d]);
         let rot = Array3::from_shape_fn((k, n, 4), |(t, i, d)| buf[t].rotation[i][d]);
@@ -259,8 +331,6 @@ impl HistoryWriter {
             .resize((b, ENERGY_COLUMNS.len()))
             .and_then(|_| self.energy.write_slice(&energy, s![a..b, ..]))
             .map_err(|x| err(p, x))?;
-        self.written = b;
-        self.buffer.clear();
         Ok(())
     }
 }
